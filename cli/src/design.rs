@@ -1,0 +1,368 @@
+//! `antinode design`: design the study's absorbers and report them.
+
+use std::path::{Path, PathBuf};
+
+use antinode_mesh::{Absorber, Location, validate, write_vtu};
+use antinode_placement::{DesignedAbsorber, StudyModel, design};
+use anyhow::{Context, Result, bail};
+use serde::Serialize;
+
+use crate::modes::mode_fields;
+use crate::output::{LocationOut, db, direction_json, print_json, table};
+use crate::pipeline::{
+    CAUTION, Progress, assemble_checked, load, out_dir, study_modes, write_file,
+};
+use crate::plot::{Series, frf_svg};
+use crate::respond::{curves_csv, magnitude_points};
+
+#[derive(Serialize)]
+struct AbsorberOut {
+    name: String,
+    location: LocationOut,
+    direction: serde_json::Value,
+    #[serde(flatten)]
+    designed: DesignedAbsorber,
+}
+
+#[derive(Serialize)]
+struct CandidateOut {
+    rank: usize,
+    location: LocationOut,
+    direction: serde_json::Value,
+    mass_ratio_per_kg: f64,
+    effective_mass_kg: f64,
+    mass_ratio: f64,
+    score: f64,
+    reduction_db: f64,
+}
+
+#[derive(Serialize)]
+struct SlotOut {
+    absorber: usize,
+    target_mode: usize,
+    candidates: Vec<CandidateOut>,
+}
+
+#[derive(Serialize)]
+struct DesignReport {
+    model: String,
+    title: String,
+    objective: antinode_mesh::Objective,
+    start_rule: &'static str,
+    damping_ratio_convention: &'static str,
+    band_hz: [f64; 2],
+    modes_kept: usize,
+    candidates_evaluated: usize,
+    targets: Vec<antinode_placement::TargetMode>,
+    absorbers: Vec<AbsorberOut>,
+    ranking: Vec<SlotOut>,
+    /// Highest receptance at the response points over the band before the design, in m/N.
+    peak_before: f64,
+    peak_before_hz: f64,
+    /// Highest receptance at the response points over the band after the design, in m/N.
+    peak_after: f64,
+    peak_after_hz: f64,
+    peak_change_db: f64,
+    rms_before: f64,
+    rms_after: f64,
+    files: Vec<String>,
+    caution: &'static str,
+}
+
+pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
+    let l = load(path)?;
+    let Some(study) = l.structure.study.clone() else {
+        bail!("{}: the model has no study block", path.display());
+    };
+    let Some(spec) = study.design.clone() else {
+        bail!("{}: the study has no absorber_design block", path.display());
+    };
+    let progress = Progress::new();
+    progress.stage("assembling");
+    let (system, _) = assemble_checked(&l, false)?;
+    let modes = study_modes(&l, &system, &progress)?;
+    progress.stage("screening and ranking candidates");
+    let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)?;
+    let d = design(&sm, &spec, &l.structure)
+        .with_context(|| format!("design for {}", path.display()))?;
+    progress.stage("writing files");
+    let s = &l.structure;
+    // The model with the new absorbers, ready for `antinode respond`.
+    let mut model = l.model.clone();
+    let first = model.absorbers.len();
+    for (i, a) in d.absorbers.iter().enumerate() {
+        model.absorbers.push(Absorber {
+            name: Some(format!(
+                "designed {} (mode {})",
+                first + i + 1,
+                a.target_mode
+            )),
+            at: Location::node(s.nodes[a.candidate.node].id),
+            direction: a.candidate.direction.given.clone(),
+            mass: a.mass_kg,
+            stiffness: a.stiffness_n_per_m,
+            damping: Some(a.damping_n_s_per_m),
+            loss_factor: None,
+        });
+    }
+    let designed =
+        validate(&model).context("the designed model does not validate (please report this)")?;
+    let dir = out_dir(path, out.as_deref())?;
+    let model_path = dir.join("design.json");
+    let result_path = dir.join("design-result.json");
+    let svg_path = dir.join("frf.svg");
+    let csv_path = dir.join("design.csv");
+    let vtu_path = dir.join("design.vtu");
+    let mut all = sm.existing.clone();
+    let new_links: Vec<antinode_solver::AbsorberLink> = d
+        .absorbers
+        .iter()
+        .map(|a| antinode_solver::AbsorberLink {
+            coord: a.candidate.coord,
+            mass: a.mass_kg,
+            stiffness: a.stiffness_n_per_m,
+            damping: antinode_mesh::AbsorberDamping::Viscous(a.damping_n_s_per_m),
+        })
+        .collect();
+    all.extend(new_links);
+    let before = sm.curves(&sm.grid_hz, &sm.existing);
+    let after = sm.curves(&sm.grid_hz, &all);
+    let pb = magnitude_points(&before);
+    let pa = magnitude_points(&after);
+    let mut series = Vec::new();
+    for (i, n) in sm.response_names.iter().enumerate() {
+        series.push(Series {
+            label: format!("{n}, before"),
+            points: &pb[i],
+            dashed: true,
+        });
+        series.push(Series {
+            label: format!("{n}, with designed absorbers"),
+            points: &pa[i],
+            dashed: false,
+        });
+    }
+    let markers: Vec<f64> = d.targets.iter().map(|t| t.frequency_hz).collect();
+    let svg = frf_svg(
+        &format!("Receptance before and after: {}", s.title),
+        "displacement per newton [m/N]",
+        &series,
+        &markers,
+    )?;
+    let names: Vec<String> = designed.absorbers.iter().map(|a| a.name.clone()).collect();
+    let ranking = d
+        .slots
+        .iter()
+        .map(|slot| SlotOut {
+            absorber: slot.absorber,
+            target_mode: slot.target_mode,
+            candidates: slot
+                .ranking
+                .iter()
+                .enumerate()
+                .map(|(i, r)| CandidateOut {
+                    rank: i + 1,
+                    location: LocationOut::of(s, r.candidate.node),
+                    direction: direction_json(&r.candidate.direction),
+                    mass_ratio_per_kg: r.mass_ratio_per_kg,
+                    effective_mass_kg: r.effective_mass_kg,
+                    mass_ratio: spec.mass_each * r.mass_ratio_per_kg,
+                    score: r.score,
+                    reduction_db: r.reduction_db,
+                })
+                .collect(),
+        })
+        .collect();
+    let report = DesignReport {
+        model: path.display().to_string(),
+        title: s.title.clone(),
+        objective: d.objective,
+        start_rule: d.rule,
+        damping_ratio_convention: "damping_ratio = c/(2 m w_a), w_a = sqrt(k/m) (the absorber's own frequency); \
+                                   damping_ratio_of_target = c/(2 m w_j) (Den Hartog's c/c_c)",
+        band_hz: study.band_hz,
+        modes_kept: modes.n_modes(),
+        candidates_evaluated: sm.candidates.len(),
+        targets: d.targets.clone(),
+        absorbers: d
+            .absorbers
+            .iter()
+            .enumerate()
+            .map(|(i, a)| AbsorberOut {
+                name: names[first + i].clone(),
+                location: LocationOut::of(s, a.candidate.node),
+                direction: direction_json(&a.candidate.direction),
+                designed: a.clone(),
+            })
+            .collect(),
+        ranking,
+        peak_before: d.before.receptance,
+        peak_before_hz: d.before.frequency_hz,
+        peak_after: d.after.receptance,
+        peak_after_hz: d.after.frequency_hz,
+        peak_change_db: db(d.after.receptance, d.before.receptance),
+        rms_before: d.rms_before,
+        rms_after: d.rms_after,
+        files: [&model_path, &result_path, &svg_path, &csv_path, &vtu_path]
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect(),
+        caution: CAUTION,
+    };
+    let fields = mode_fields(&system, &modes);
+    write_vtu(&vtu_path, &designed, &fields, &[])?;
+    write_file(
+        &csv_path,
+        curves_csv(&sm, &before, Some(&after), &names[..]).as_bytes(),
+    )?;
+    write_file(&svg_path, svg.as_bytes())?;
+    write_file(
+        &model_path,
+        serde_json::to_string_pretty(&model)?.as_bytes(),
+    )?;
+    write_file(
+        &result_path,
+        serde_json::to_string_pretty(&report)?.as_bytes(),
+    )?;
+    drop(progress);
+    if json {
+        return print_json(&report);
+    }
+    print_human(&report, spec.mass_each);
+    Ok(())
+}
+
+fn loc(l: &LocationOut) -> String {
+    format!(
+        "node {} ({:.4}, {:.4}, {:.4})",
+        l.node, l.xyz[0], l.xyz[1], l.xyz[2]
+    )
+}
+
+fn dir_text(v: &serde_json::Value) -> String {
+    match v {
+        serde_json::Value::String(s) => s.clone(),
+        other => other.to_string(),
+    }
+}
+
+fn print_human(r: &DesignReport, mass_each: f64) {
+    println!(
+        "{}: band {}-{} Hz, {} modes kept, {} candidate attachments (node x direction), objective {:?}",
+        r.model, r.band_hz[0], r.band_hz[1], r.modes_kept, r.candidates_evaluated, r.objective
+    );
+    let trows = r
+        .targets
+        .iter()
+        .map(|t| {
+            vec![
+                t.mode.to_string(),
+                format!("{:.4}", t.frequency_hz),
+                format!("{:.4e}", t.modal_peak),
+                format!("{:.2}-{:.2}", t.window_hz[0], t.window_hz[1]),
+            ]
+        })
+        .collect();
+    println!("target modes:");
+    println!(
+        "{}",
+        table(
+            &["mode", "frequency [Hz]", "modal peak [m/N]", "window [Hz]"],
+            trows
+        )
+    );
+    for slot in &r.ranking {
+        println!(
+            "ranked candidates for absorber {} (mode {}, {:.4} kg, with the absorbers placed before it):",
+            slot.absorber, slot.target_mode, mass_each
+        );
+        let rows = slot
+            .candidates
+            .iter()
+            .map(|c| {
+                vec![
+                    c.rank.to_string(),
+                    loc(&c.location),
+                    dir_text(&c.direction),
+                    format!("{:.4e}", c.mass_ratio_per_kg),
+                    format!("{:.4}", c.mass_ratio),
+                    format!("{:.4e}", c.score),
+                    format!("{:.2}", c.reduction_db),
+                ]
+            })
+            .collect();
+        println!(
+            "{}",
+            table(
+                &[
+                    "rank",
+                    "location",
+                    "dir",
+                    "mu per kg [1/kg]",
+                    "mu",
+                    "window peak [m/N]",
+                    "reduction [dB]"
+                ],
+                rows
+            )
+        );
+    }
+    println!(
+        "designed absorbers (start: {}; refined on the coupled model):",
+        r.start_rule
+    );
+    let rows = r
+        .absorbers
+        .iter()
+        .map(|a| {
+            let d = &a.designed;
+            vec![
+                a.name.clone(),
+                loc(&a.location),
+                dir_text(&a.direction),
+                format!("{:.4}", d.mass_kg),
+                format!("{:.5e}", d.stiffness_n_per_m),
+                format!("{:.4e}", d.damping_n_s_per_m),
+                format!("{:.4}", d.tuned_frequency_hz),
+                d.target_mode.to_string(),
+                format!("{:.4}", d.mass_ratio),
+                format!("{:.4}", d.damping_ratio),
+                format!("{:.3e}", d.max_stroke_m_per_n),
+            ]
+        })
+        .collect();
+    println!(
+        "{}",
+        table(
+            &[
+                "absorber",
+                "location",
+                "dir",
+                "mass [kg]",
+                "k [N/m]",
+                "c [N s/m]",
+                "tuned [Hz]",
+                "mode",
+                "mu",
+                "zeta_a",
+                "max stroke [m/N]"
+            ],
+            rows
+        )
+    );
+    println!(
+        "zeta_a = c/(2 m w_a) with w_a = sqrt(k/m); Den Hartog's c/c_c = c/(2 m w_mode) is in the JSON output"
+    );
+    println!(
+        "peak receptance at the response points: before {:.4e} m/N at {:.3} Hz, after {:.4e} m/N at {:.3} Hz ({:+.2} dB)",
+        r.peak_before, r.peak_before_hz, r.peak_after, r.peak_after_hz, r.peak_change_db
+    );
+    println!(
+        "band RMS: before {:.4e} m/N, after {:.4e} m/N ({:+.2} dB)",
+        r.rms_before,
+        r.rms_after,
+        db(r.rms_after, r.rms_before)
+    );
+    println!("wrote {}", r.files.join(", "));
+    println!("{}", r.caution);
+}

@@ -1,0 +1,120 @@
+//! The `antinode` program: model file in, modes, responses and absorber designs out.
+
+mod check;
+mod design;
+mod modes;
+mod output;
+mod pipeline;
+mod plot;
+mod respond;
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::{Args, Parser, Subcommand};
+
+/// Finite-element modal solver that decides where to attach tuned vibration absorbers and how to
+/// tune them. Model files are JSON in SI units (see docs/model-format.md).
+#[derive(Parser)]
+#[command(name = "antinode", version, about, long_about = None, propagate_version = true)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Validate a model: counts, total mass, centre of mass, free motions, warnings.
+    Check(CheckArgs),
+    /// Natural modes: frequencies, effective masses, Sturm check; writes modes.json, modes.csv
+    /// and modes.vtu.
+    Modes(ModesArgs),
+    /// Forced response of the study with and without the model's absorbers; writes CSV and an SVG
+    /// plot.
+    Respond(RespondArgs),
+    /// Design the study's absorbers: ranked candidates, chosen absorbers, response before and
+    /// after; writes design.json (the model with the absorbers added), plots and VTK.
+    Design(DesignArgs),
+    /// Print the JSON Schema of the model file.
+    Schema,
+}
+
+#[derive(Args)]
+struct Common {
+    /// Model file (JSON).
+    model: PathBuf,
+    /// Machine-readable JSON on standard output instead of tables.
+    #[arg(long)]
+    json: bool,
+}
+
+#[derive(Args)]
+struct CheckArgs {
+    #[command(flatten)]
+    common: Common,
+}
+
+#[derive(Args)]
+struct ModesArgs {
+    #[command(flatten)]
+    common: Common,
+    /// Number of lowest modes (zero-frequency modes included).
+    #[arg(long, conflicts_with = "max_frequency")]
+    count: Option<usize>,
+    /// Every mode up to this frequency, in Hz.
+    #[arg(long)]
+    max_frequency: Option<f64>,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    /// Include the model's absorbers as extra degrees of freedom (undamped coupled modes).
+    #[arg(long)]
+    with_absorbers: bool,
+}
+
+#[derive(Args)]
+struct RespondArgs {
+    #[command(flatten)]
+    common: Common,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+}
+
+#[derive(Args)]
+struct DesignArgs {
+    #[command(flatten)]
+    common: Common,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+}
+
+fn main() -> ExitCode {
+    antinode_solver::init();
+    let cli = Cli::parse();
+    let result = match cli.command {
+        Command::Check(a) => check::run(&a.common.model, a.common.json),
+        Command::Modes(a) => modes::run(&modes::Options {
+            model: a.common.model,
+            json: a.common.json,
+            count: a.count,
+            max_frequency: a.max_frequency,
+            out: a.out,
+            with_absorbers: a.with_absorbers,
+        }),
+        Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
+        Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
+        Command::Schema => {
+            print!("{}", antinode_mesh::model_schema_json());
+            Ok(())
+        }
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("error: {e:#}");
+            ExitCode::FAILURE
+        }
+    }
+}

@@ -1,0 +1,96 @@
+//! SVG plots (plotters' SVG backend).
+
+use anyhow::{Result, anyhow};
+use plotters::prelude::*;
+
+/// One curve of a plot.
+pub struct Series<'a> {
+    /// Legend text.
+    pub label: String,
+    /// (frequency in Hz, value) pairs.
+    pub points: &'a [(f64, f64)],
+    /// Dashed line for "before" curves.
+    pub dashed: bool,
+}
+
+const COLOURS: [RGBColor; 6] = [
+    RGBColor(31, 119, 180),
+    RGBColor(214, 39, 40),
+    RGBColor(44, 160, 44),
+    RGBColor(148, 103, 189),
+    RGBColor(255, 127, 14),
+    RGBColor(23, 190, 207),
+];
+
+/// A magnitude-versus-frequency plot with a logarithmic magnitude axis, as SVG text.
+pub fn frf_svg(
+    title: &str,
+    y_label: &str,
+    series: &[Series<'_>],
+    markers_hz: &[f64],
+) -> Result<String> {
+    let all: Vec<(f64, f64)> = series
+        .iter()
+        .flat_map(|s| s.points.iter().copied())
+        .filter(|p| p.1 > 0.0)
+        .collect();
+    if all.is_empty() {
+        return Err(anyhow!("nothing to plot"));
+    }
+    let x0 = all.iter().map(|p| p.0).fold(f64::INFINITY, f64::min);
+    let x1 = all.iter().map(|p| p.0).fold(f64::NEG_INFINITY, f64::max);
+    let y1 = all.iter().map(|p| p.1).fold(0.0, f64::max) * 2.0;
+    let y0 = (all.iter().map(|p| p.1).fold(f64::INFINITY, f64::min)).max(y1 * 1e-6);
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (960, 560)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| anyhow!("{e}"))?;
+        let mut chart = ChartBuilder::on(&root)
+            .caption(title, ("sans-serif", 18))
+            .margin(14)
+            .x_label_area_size(44)
+            .y_label_area_size(86)
+            .build_cartesian_2d(x0..x1, (y0..y1).log_scale())
+            .map_err(|e| anyhow!("{e}"))?;
+        chart
+            .configure_mesh()
+            .x_desc("frequency [Hz]")
+            .y_desc(y_label)
+            .y_label_formatter(&|v| format!("{v:.1e}"))
+            .draw()
+            .map_err(|e| anyhow!("{e}"))?;
+        for &f in markers_hz {
+            if f >= x0 && f <= x1 {
+                chart
+                    .draw_series(LineSeries::new(
+                        [(f, y0), (f, y1)],
+                        ShapeStyle::from(&BLACK.mix(0.15)).stroke_width(1),
+                    ))
+                    .map_err(|e| anyhow!("{e}"))?;
+            }
+        }
+        for (i, s) in series.iter().enumerate() {
+            let colour = COLOURS[i / 2 % COLOURS.len()];
+            let style = ShapeStyle::from(&colour).stroke_width(if s.dashed { 1 } else { 2 });
+            let pts: Vec<(f64, f64)> = s.points.iter().copied().filter(|p| p.1 > 0.0).collect();
+            let drawn = if s.dashed {
+                chart.draw_series(DashedLineSeries::new(pts, 6, 4, style))
+            } else {
+                chart.draw_series(LineSeries::new(pts, style))
+            };
+            drawn
+                .map_err(|e| anyhow!("{e}"))?
+                .label(s.label.clone())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], style));
+        }
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::UpperRight)
+            .background_style(WHITE.mix(0.9))
+            .border_style(BLACK)
+            .draw()
+            .map_err(|e| anyhow!("{e}"))?;
+        root.present().map_err(|e| anyhow!("{e}"))?;
+    }
+    Ok(svg)
+}

@@ -1,0 +1,300 @@
+//! `antinode respond`: the study's response with and without the model's absorbers.
+
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+use antinode_placement::{Curves, StudyModel};
+use antinode_solver::{AbsorberLink, refined_peaks};
+use anyhow::{Result, bail};
+use serde::Serialize;
+
+use crate::output::{print_json, table};
+use crate::pipeline::{
+    CAUTION, Progress, assemble_checked, load, out_dir, study_modes, write_file,
+};
+use crate::plot::{Series, frf_svg};
+
+#[derive(Serialize)]
+pub struct PeakOut {
+    pub frequency_hz: f64,
+    /// Largest displacement over the response points per newton, in m/N.
+    pub receptance: f64,
+    pub point: String,
+}
+
+#[derive(Serialize)]
+struct AbsorberOut {
+    name: String,
+    max_stroke_m_per_n: f64,
+    max_spring_force_n_per_n: f64,
+}
+
+#[derive(Serialize)]
+struct RespondReport {
+    model: String,
+    title: String,
+    band_hz: [f64; 2],
+    modes_kept: usize,
+    response_points: Vec<String>,
+    reference_force_n: f64,
+    peaks_before: Vec<PeakOut>,
+    peaks_after: Vec<PeakOut>,
+    peak_before: f64,
+    peak_after: Option<f64>,
+    absorbers: Vec<AbsorberOut>,
+    files: Vec<String>,
+}
+
+/// Peaks of the largest response over the points, refined between grid neighbours.
+pub fn peaks(sm: &StudyModel, curves: &Curves, links: &[AbsorberLink]) -> Vec<PeakOut> {
+    let vals: Vec<f64> = (0..curves.frequency_hz.len())
+        .map(|i| {
+            curves
+                .response
+                .iter()
+                .map(|r| r[i].norm())
+                .fold(0.0, f64::max)
+        })
+        .collect();
+    refined_peaks(&curves.frequency_hz, &vals, |f| sm.response_at(f, links).0)
+        .into_iter()
+        .map(|(f, v)| PeakOut {
+            frequency_hz: f,
+            receptance: v,
+            point: sm.response_names[sm.response_at(f, links).1].clone(),
+        })
+        .collect()
+}
+
+/// CSV of curves: frequency, then magnitude and phase per response point (before, after), then the
+/// absorbers' stroke and force magnitudes (after).
+pub fn curves_csv(
+    sm: &StudyModel,
+    before: &Curves,
+    after: Option<&Curves>,
+    absorber_names: &[String],
+) -> String {
+    let mut s = String::from("frequency_hz");
+    for n in &sm.response_names {
+        let _ = write!(s, ",{n} before [m/N],{n} before phase [deg]");
+        if after.is_some() {
+            let _ = write!(s, ",{n} after [m/N],{n} after phase [deg]");
+        }
+    }
+    for n in absorber_names {
+        let _ = write!(s, ",{n} stroke [m/N],{n} force [N/N]");
+    }
+    s.push('\n');
+    for i in 0..before.frequency_hz.len() {
+        let _ = write!(s, "{:.9e}", before.frequency_hz[i]);
+        for p in 0..sm.responses.len() {
+            let b = before.response[p][i];
+            let _ = write!(s, ",{:.9e},{:.4}", b.norm(), b.arg().to_degrees());
+            if let Some(a) = after {
+                let v = a.response[p][i];
+                let _ = write!(s, ",{:.9e},{:.4}", v.norm(), v.arg().to_degrees());
+            }
+        }
+        if let Some(a) = after {
+            for k in 0..absorber_names.len() {
+                let _ = write!(
+                    s,
+                    ",{:.9e},{:.9e}",
+                    a.stroke[k][i].norm(),
+                    a.spring_force[k][i].norm()
+                );
+            }
+        }
+        s.push('\n');
+    }
+    s
+}
+
+/// Points (f, |x|) of each response point's curve.
+pub fn magnitude_points(c: &Curves) -> Vec<Vec<(f64, f64)>> {
+    c.response
+        .iter()
+        .map(|r| {
+            c.frequency_hz
+                .iter()
+                .zip(r)
+                .map(|(&f, x)| (f, x.norm()))
+                .collect()
+        })
+        .collect()
+}
+
+pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
+    let l = load(path)?;
+    let Some(study) = l.structure.study.clone() else {
+        bail!(
+            "{}: the model has no study block (band, excitation, response points)",
+            path.display()
+        );
+    };
+    let progress = Progress::new();
+    progress.stage("assembling");
+    let (system, _) = assemble_checked(&l, false)?;
+    let modes = study_modes(&l, &system, &progress)?;
+    progress.stage("response");
+    let sm = StudyModel::build(&l.structure, &system, &modes, &study, false)?;
+    let before = sm.curves(&sm.grid_hz, &[]);
+    let has_absorbers = !sm.existing.is_empty();
+    let after = has_absorbers.then(|| sm.curves(&sm.grid_hz, &sm.existing));
+    let names: Vec<String> = l
+        .structure
+        .absorbers
+        .iter()
+        .map(|a| a.name.clone())
+        .collect();
+    let dir = out_dir(path, out.as_deref())?;
+    let csv_path = dir.join("response.csv");
+    let svg_path = dir.join("frf.svg");
+    let json_path = dir.join("response.json");
+    let pb = magnitude_points(&before);
+    let pa = after.as_ref().map(magnitude_points);
+    let mut series = Vec::new();
+    for (i, n) in sm.response_names.iter().enumerate() {
+        series.push(Series {
+            label: format!("{n}, without absorbers"),
+            points: &pb[i],
+            dashed: true,
+        });
+        if let Some(pa) = &pa {
+            series.push(Series {
+                label: format!("{n}, with absorbers"),
+                points: &pa[i],
+                dashed: false,
+            });
+        }
+    }
+    let markers: Vec<f64> = sm
+        .natural_hz
+        .iter()
+        .copied()
+        .filter(|&f| f >= study.band_hz[0] && f <= study.band_hz[1])
+        .collect();
+    let svg = frf_svg(
+        &format!("Receptance: {}", l.structure.title),
+        "displacement per newton [m/N]",
+        &series,
+        &markers,
+    )?;
+    let peaks_before = peaks(&sm, &before, &[]);
+    let peaks_after = after
+        .as_ref()
+        .map(|a| peaks(&sm, a, &sm.existing))
+        .unwrap_or_default();
+    let report = RespondReport {
+        model: path.display().to_string(),
+        title: l.structure.title.clone(),
+        band_hz: study.band_hz,
+        modes_kept: modes.n_modes(),
+        response_points: sm.response_names.clone(),
+        reference_force_n: sm.reference_force,
+        peak_before: sm.peak(study.band_hz[0], study.band_hz[1], &[]).receptance,
+        peak_after: has_absorbers.then(|| {
+            sm.peak(study.band_hz[0], study.band_hz[1], &sm.existing)
+                .receptance
+        }),
+        peaks_before,
+        peaks_after,
+        absorbers: after
+            .as_ref()
+            .map(|a| {
+                names
+                    .iter()
+                    .enumerate()
+                    .map(|(k, n)| AbsorberOut {
+                        name: n.clone(),
+                        max_stroke_m_per_n: a.stroke[k]
+                            .iter()
+                            .map(|z| z.norm())
+                            .fold(0.0, f64::max),
+                        max_spring_force_n_per_n: a.spring_force[k]
+                            .iter()
+                            .map(|z| z.norm())
+                            .fold(0.0, f64::max),
+                    })
+                    .collect()
+            })
+            .unwrap_or_default(),
+        files: [&csv_path, &svg_path, &json_path]
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect(),
+    };
+    write_file(
+        &csv_path,
+        curves_csv(&sm, &before, after.as_ref(), &names).as_bytes(),
+    )?;
+    write_file(&svg_path, svg.as_bytes())?;
+    write_file(
+        &json_path,
+        serde_json::to_string_pretty(&report)?.as_bytes(),
+    )?;
+    drop(progress);
+    if json {
+        return print_json(&report);
+    }
+    println!(
+        "{}: band {}-{} Hz, {} modes kept (up to {:.1} Hz) with residual flexibility",
+        report.model,
+        study.band_hz[0],
+        study.band_hz[1],
+        report.modes_kept,
+        study.max_mode_frequency_hz
+    );
+    let rows = |p: &[PeakOut]| -> Vec<Vec<String>> {
+        p.iter()
+            .map(|k| {
+                vec![
+                    format!("{:.4}", k.frequency_hz),
+                    format!("{:.4e}", k.receptance),
+                    k.point.clone(),
+                ]
+            })
+            .collect()
+    };
+    println!("peaks without absorbers (per newton of excitation):");
+    println!(
+        "{}",
+        table(
+            &["frequency [Hz]", "receptance [m/N]", "point"],
+            rows(&report.peaks_before)
+        )
+    );
+    if has_absorbers {
+        println!("peaks with the model's {} absorber(s):", names.len());
+        println!(
+            "{}",
+            table(
+                &["frequency [Hz]", "receptance [m/N]", "point"],
+                rows(&report.peaks_after)
+            )
+        );
+        let arows = report
+            .absorbers
+            .iter()
+            .map(|a| {
+                vec![
+                    a.name.clone(),
+                    format!("{:.4e}", a.max_stroke_m_per_n),
+                    format!("{:.4}", a.max_spring_force_n_per_n),
+                ]
+            })
+            .collect();
+        println!(
+            "{}",
+            table(
+                &["absorber", "max stroke [m/N]", "max spring force [N/N]"],
+                arows
+            )
+        );
+    } else {
+        println!("the model has no absorbers: only the bare structure is shown");
+    }
+    println!("wrote {}", report.files.join(", "));
+    println!("{CAUTION}");
+    Ok(())
+}

@@ -1,0 +1,57 @@
+//! Model data for antinode: the model file ([`Model`], plain serde data with a JSON Schema), its
+//! checking and resolution into a [`Structure`] ([`validate`]), cross-section properties, and VTK
+//! output. This crate has no linear algebra.
+//!
+//! # Units and conventions
+//! - SI units everywhere: m, kg, s, N, Pa; angles in rad unless a field says `_deg`.
+//! - Global axes X, Y, Z, right-handed. Six DOFs per node in the order `[ux, uy, uz, rx, ry, rz]`.
+//! - Beam local axes: x from the first node to the second; local y is the part of the orientation
+//!   vector perpendicular to x (default orientation: global Z, or global X for a beam along Z);
+//!   z = x × y. A section's `height` runs along local y and its `width` along local z.
+//! - Locations resolve to nodes: by id, by coordinates snapped to the nearest node within a
+//!   tolerance (default 1 % of the model's bounding-box diagonal), or by a fraction along a line
+//!   (its nearest node).
+//!
+//! # Example
+//! ```
+//! use antinode_mesh::{parse_model, validate};
+//! let text = r#"{
+//!   "materials": {"steel": {"youngs_modulus": 2.1e11, "poisson_ratio": 0.3, "density": 7850}},
+//!   "sections": {"bar": {"circle": {"diameter": 0.02}}},
+//!   "lines": [{"name": "shaft", "from": [0, 0, 0], "to": [1, 0, 0], "elements": 10,
+//!              "section": "bar", "material": "steel"}],
+//!   "supports": [{"at": {"line": "shaft", "at": 0.0}, "fixed": "clamped"}]
+//! }"#;
+//! let model = parse_model(text, std::path::Path::new("example.json")).unwrap();
+//! let s = validate(&model).unwrap();
+//! assert_eq!(s.nodes.len(), 11);
+//! assert_eq!(s.beams.len(), 10);
+//! let mass = 7850.0 * std::f64::consts::PI * 0.01f64.powi(2);
+//! assert!((s.total_mass() - mass).abs() < 1e-9 * mass);
+//! ```
+
+mod error;
+mod io;
+mod model;
+mod section;
+mod structure;
+mod validate;
+mod vtk;
+
+pub use error::ModelError;
+pub use io::{load_model, model_schema_json, parse_model, write_atomic};
+pub use model::{
+    Absorber, AbsorberDesign, AutoWord, Axis, Beam, CandidateSet, CircleSection,
+    CircularTubeSection, Direction, Dof, DofValues, ElementId, ExplicitSection, Fixity,
+    FixityPreset, Force, Ground, Line, Location, MassMatrix, Material, Model, Node, NodeId,
+    Objective, PointMass, RectangleSection, RectangularTubeSection, ResponsePoint, Section, Spring,
+    SpringEnd, Study, Support, Targets,
+};
+pub use section::{SectionProperties, section_properties};
+pub use structure::{
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes,
+    MaterialProperties, NodalMass, PointForce, ResponseSpec, SpringElement, Structure,
+    StructureNode, StudySpec, TargetSpec, bounding_diagonal, distance,
+};
+pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
+pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};

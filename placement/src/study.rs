@@ -1,0 +1,361 @@
+//! A study on the reduced (modal) model: excitation, response points, absorbers already in the
+//! model and candidate places, all as coordinates of one [`ModalModel`]; response curves and
+//! peaks with any set of absorbers coupled.
+
+use antinode_mesh::{AbsorberSpec, DirectionSpec, Structure, StudySpec};
+use antinode_solver::{
+    AbsorberLink, Complex64, Coordinate, Load, ModalModel, ModalSolution, System, frequency_grid,
+    golden_max,
+};
+use serde::Serialize;
+
+use crate::error::PlacementError;
+
+/// A candidate attachment: node and direction, with its coordinate in the modal model.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Candidate {
+    /// Node index.
+    pub node: usize,
+    /// Direction of action.
+    pub direction: DirectionSpec,
+    /// Coordinate index in the modal model.
+    pub coord: usize,
+}
+
+/// The study's excitation, responses and candidates on the modal model.
+#[derive(Debug, Clone)]
+pub struct StudyModel {
+    /// Modal data at all coordinates below.
+    pub model: ModalModel,
+    /// Forces.
+    pub loads: Vec<Load>,
+    /// Response coordinates, one per response point.
+    pub responses: Vec<usize>,
+    /// Response point names.
+    pub response_names: Vec<String>,
+    /// The model's own absorbers.
+    pub existing: Vec<AbsorberLink>,
+    /// Candidate attachments (empty unless asked for).
+    pub candidates: Vec<Candidate>,
+    /// Band, in Hz.
+    pub band_hz: [f64; 2],
+    /// Evaluation frequencies over the band, in Hz.
+    pub grid_hz: Vec<f64>,
+    /// Largest force amplitude, in N: responses are reported per newton of it.
+    pub reference_force: f64,
+    /// Natural frequencies of the kept modes, in Hz.
+    pub natural_hz: Vec<f64>,
+    /// Number of zero-energy modes among the kept ones.
+    pub n_zero_energy: usize,
+    /// Modal damping ratio.
+    pub damping_ratio: f64,
+    /// Modal factors at each grid frequency (shared by every evaluation).
+    grid_factors: Vec<Vec<Complex64>>,
+}
+
+/// Response curves over frequency.
+#[derive(Debug, Clone, Serialize)]
+pub struct Curves {
+    /// Frequencies, in Hz.
+    pub frequency_hz: Vec<f64>,
+    /// Per response point, complex displacement per newton of the reference force, in m/N.
+    #[serde(skip)]
+    pub response: Vec<Vec<Complex64>>,
+    /// Per absorber, complex stroke per newton, in m/N.
+    #[serde(skip)]
+    pub stroke: Vec<Vec<Complex64>>,
+    /// Per absorber, complex spring force per newton of the reference force (N/N).
+    #[serde(skip)]
+    pub spring_force: Vec<Vec<Complex64>>,
+}
+
+/// A response peak.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Peak {
+    /// Frequency, in Hz.
+    pub frequency_hz: f64,
+    /// Largest displacement over the response points per newton of the reference force, in m/N.
+    pub receptance: f64,
+    /// Index of the response point where it occurs.
+    pub point: usize,
+}
+
+fn coordinate(node: usize, d: &DirectionSpec) -> Coordinate {
+    Coordinate {
+        node,
+        direction: d.unit,
+    }
+}
+
+/// The link of an absorber of the model at coordinate `coord`.
+pub fn link_of(a: &AbsorberSpec, coord: usize) -> AbsorberLink {
+    AbsorberLink {
+        coord,
+        mass: a.mass,
+        stiffness: a.stiffness,
+        damping: a.damping,
+    }
+}
+
+impl StudyModel {
+    /// Builds the study model from computed modes (the kept ones) of the structure without
+    /// absorbers. With `with_candidates`, every candidate node × allowed direction of the design
+    /// request becomes a coordinate too.
+    ///
+    /// # Errors
+    /// [`PlacementError::Study`] if the study lacks an excitation or response points;
+    /// solver errors from the residual flexibility.
+    pub fn build(
+        structure: &Structure,
+        system: &System,
+        modes: &ModalSolution,
+        study: &StudySpec,
+        with_candidates: bool,
+    ) -> Result<Self, PlacementError> {
+        if study.excitation.is_empty() {
+            return Err(PlacementError::Study(
+                "the study has no excitation: add study.excitation".into(),
+            ));
+        }
+        if study.response_points.is_empty() {
+            return Err(PlacementError::Study(
+                "the study has no response point: add study.response_points".into(),
+            ));
+        }
+        let mut coords = Vec::new();
+        let mut loads = Vec::new();
+        for f in &study.excitation {
+            loads.push(Load {
+                coord: coords.len(),
+                amplitude: Complex64::from_polar(f.amplitude, f.phase_rad),
+            });
+            coords.push(coordinate(f.node, &f.direction));
+        }
+        let mut responses = Vec::new();
+        for r in &study.response_points {
+            responses.push(coords.len());
+            coords.push(coordinate(r.node, &r.direction));
+        }
+        let mut existing = Vec::new();
+        for a in &structure.absorbers {
+            existing.push(link_of(a, coords.len()));
+            coords.push(coordinate(a.node, &a.direction));
+        }
+        let mut candidates = Vec::new();
+        if with_candidates {
+            if let Some(d) = &study.design {
+                for &node in &d.candidates {
+                    for dir in &d.directions {
+                        candidates.push(Candidate {
+                            node,
+                            direction: dir.clone(),
+                            coord: coords.len(),
+                        });
+                        coords.push(coordinate(node, dir));
+                    }
+                }
+            }
+        }
+        let model = ModalModel::build(system, modes, &coords, study.modal_damping_ratio, true)?;
+        let natural_hz: Vec<f64> = (0..modes.n_modes())
+            .map(|i| modes.frequency_hz(i))
+            .collect();
+        let grid_hz = frequency_grid(study.band_hz, &natural_hz, study.modal_damping_ratio);
+        let reference_force = study
+            .excitation
+            .iter()
+            .map(|f| f.amplitude)
+            .fold(0.0, f64::max);
+        let grid_factors = grid_hz
+            .iter()
+            .map(|&f| model.modal_factors(2.0 * std::f64::consts::PI * f))
+            .collect();
+        Ok(Self {
+            model,
+            loads,
+            responses,
+            response_names: study
+                .response_points
+                .iter()
+                .map(|r| r.name.clone())
+                .collect(),
+            existing,
+            candidates,
+            band_hz: study.band_hz,
+            grid_hz,
+            reference_force,
+            natural_hz,
+            n_zero_energy: modes.n_zero_energy,
+            damping_ratio: study.modal_damping_ratio,
+            grid_factors,
+        })
+    }
+
+    /// Largest response over the response points at `f_hz` with `absorbers`, per newton, and the
+    /// index of that point.
+    pub fn response_at(&self, f_hz: f64, absorbers: &[AbsorberLink]) -> (f64, usize) {
+        let omega = 2.0 * std::f64::consts::PI * f_hz;
+        let factors = self.model.modal_factors(omega);
+        self.response_with(&factors, omega, absorbers)
+    }
+
+    fn response_on_grid(&self, i: usize, absorbers: &[AbsorberLink]) -> (f64, usize) {
+        let omega = 2.0 * std::f64::consts::PI * self.grid_hz[i];
+        self.response_with(&self.grid_factors[i], omega, absorbers)
+    }
+
+    fn response_with(
+        &self,
+        factors: &[Complex64],
+        omega: f64,
+        absorbers: &[AbsorberLink],
+    ) -> (f64, usize) {
+        let r = self.model.coupled_response_with(
+            factors,
+            omega,
+            &self.loads,
+            &self.responses,
+            absorbers,
+        );
+        let mut best = (0.0, 0);
+        for (i, x) in r.displacement.iter().enumerate() {
+            let v = x.norm() / self.reference_force;
+            if v > best.0 {
+                best = (v, i);
+            }
+        }
+        best
+    }
+
+    /// Curves over `freq_hz` with `absorbers` coupled.
+    pub fn curves(&self, freq_hz: &[f64], absorbers: &[AbsorberLink]) -> Curves {
+        let f0 = self.reference_force;
+        let mut response = vec![Vec::with_capacity(freq_hz.len()); self.responses.len()];
+        let mut stroke = vec![Vec::with_capacity(freq_hz.len()); absorbers.len()];
+        let mut spring_force = vec![Vec::with_capacity(freq_hz.len()); absorbers.len()];
+        for &f in freq_hz {
+            let omega = 2.0 * std::f64::consts::PI * f;
+            let r = self
+                .model
+                .coupled_response(omega, &self.loads, &self.responses, absorbers);
+            for (i, x) in r.displacement.iter().enumerate() {
+                response[i].push(x / f0);
+            }
+            for (i, s) in r.stroke.iter().enumerate() {
+                stroke[i].push(s / f0);
+                spring_force[i].push(r.spring_force[i] / f0);
+            }
+        }
+        Curves {
+            frequency_hz: freq_hz.to_vec(),
+            response,
+            stroke,
+            spring_force,
+        }
+    }
+
+    /// The highest peak in [lo, hi] Hz with `absorbers`: grid maximum, refined by golden-section
+    /// search around the three highest local maxima.
+    pub fn peak(&self, lo: f64, hi: f64, absorbers: &[AbsorberLink]) -> Peak {
+        let idx: Vec<usize> = (0..self.grid_hz.len())
+            .filter(|&i| self.grid_hz[i] >= lo && self.grid_hz[i] <= hi)
+            .collect();
+        let (grid, vals): (Vec<f64>, Vec<(f64, usize)>) = if idx.len() < 3 {
+            let g = vec![lo, 0.5 * (lo + hi), hi];
+            let v = g.iter().map(|&f| self.response_at(f, absorbers)).collect();
+            (g, v)
+        } else {
+            (
+                idx.iter().map(|&i| self.grid_hz[i]).collect(),
+                idx.iter()
+                    .map(|&i| self.response_on_grid(i, absorbers))
+                    .collect(),
+            )
+        };
+        let mut maxima: Vec<usize> = (0..vals.len())
+            .filter(|&i| {
+                let l = if i > 0 {
+                    vals[i - 1].0
+                } else {
+                    f64::NEG_INFINITY
+                };
+                let r = if i + 1 < vals.len() {
+                    vals[i + 1].0
+                } else {
+                    f64::NEG_INFINITY
+                };
+                vals[i].0 >= l && vals[i].0 >= r
+            })
+            .collect();
+        maxima.sort_by(|&a, &b| vals[b].0.total_cmp(&vals[a].0));
+        maxima.truncate(3);
+        let mut best = Peak {
+            frequency_hz: grid[0],
+            receptance: vals[0].0,
+            point: vals[0].1,
+        };
+        for &i in &maxima {
+            let (a, b) = (grid[i.saturating_sub(1)], grid[(i + 1).min(grid.len() - 1)]);
+            let (f, v) = if b > a {
+                golden_max(a, b, 1e-9, |f| self.response_at(f, absorbers).0)
+            } else {
+                (grid[i], vals[i].0)
+            };
+            let (f, v) = if v >= vals[i].0 {
+                (f, v)
+            } else {
+                (grid[i], vals[i].0)
+            };
+            if v > best.receptance {
+                best = Peak {
+                    frequency_hz: f,
+                    receptance: v,
+                    point: self.response_at(f, absorbers).1,
+                };
+            }
+        }
+        best
+    }
+
+    /// Root-mean-square response over [lo, hi] Hz (trapezoidal rule on the grid, largest response
+    /// point at each frequency), per newton, in m/N.
+    pub fn rms(&self, lo: f64, hi: f64, absorbers: &[AbsorberLink]) -> f64 {
+        let idx: Vec<usize> = (0..self.grid_hz.len())
+            .filter(|&i| self.grid_hz[i] >= lo && self.grid_hz[i] <= hi)
+            .collect();
+        if idx.len() < 2 {
+            return self.response_at(0.5 * (lo + hi), absorbers).0;
+        }
+        let g: Vec<f64> = idx.iter().map(|&i| self.grid_hz[i]).collect();
+        let vals: Vec<f64> = idx
+            .iter()
+            .map(|&i| self.response_on_grid(i, absorbers).0.powi(2))
+            .collect();
+        let mut s = 0.0;
+        for i in 1..g.len() {
+            s += 0.5 * (vals[i] + vals[i - 1]) * (g[i] - g[i - 1]);
+        }
+        (s / (g[g.len() - 1] - g[0])).sqrt()
+    }
+
+    /// Modal peak of mode r at the response points: max_p |Σ_l φ_pr φ_lr F_l| / (2ζ λ_r F_ref), the
+    /// height its resonance alone would reach, in m/N.
+    pub fn modal_peak(&self, r: usize) -> f64 {
+        let m = &self.model;
+        let lambda = m.eigenvalues()[r];
+        if r < self.n_zero_energy || lambda <= 0.0 {
+            return 0.0;
+        }
+        let force: Complex64 = self
+            .loads
+            .iter()
+            .map(|l| l.amplitude * m.coupling(l.coord, r))
+            .sum();
+        let at = self
+            .responses
+            .iter()
+            .map(|&p| (force * m.coupling(p, r)).norm())
+            .fold(0.0, f64::max);
+        at / (2.0 * self.damping_ratio * lambda * self.reference_force)
+    }
+}

@@ -1,0 +1,323 @@
+//! Assembly of the global stiffness K and mass M on one sparsity pattern.
+//!
+//! Two phases: the pattern (union of every element's free-DOF pairs) is analysed once, then values
+//! are filled from the element matrices through the pattern's argsort. K and M share the pattern
+//! (M holds explicit zeros where only K has entries), so K − σM is a cheap value-wise combination and
+//! one symbolic factorization serves every shift. Element matrices are computed in parallel and
+//! scattered in a fixed order, so results do not depend on the thread count.
+
+use antinode_mesh::{AbsorberSpec, MassMatrix, Structure};
+use faer::sparse::{Pair, SparseColMat, SymbolicSparseColMat};
+use faer::{Accum, Mat, MatRef, Par};
+use rayon::prelude::*;
+
+use crate::dofs::{DofMap, DofOwner};
+use crate::element::beam::{MassKind, global_matrices};
+use crate::element::point_mass::point_mass;
+use crate::element::spring::link_stiffness;
+use crate::error::SolverError;
+use crate::factor::Factorizer;
+
+/// Options for [`assemble`].
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct AssemblyOptions {
+    /// Add one DOF per absorber (its mass moving along its direction, on its spring). The
+    /// absorbers' damping does not enter K and M.
+    pub include_absorbers: bool,
+}
+
+/// An assembled model: free-DOF numbering, K and M on a shared pattern, and its symbolic analysis.
+pub struct System {
+    pub(crate) dofs: DofMap,
+    pub(crate) k: SparseColMat<usize, f64>,
+    pub(crate) m: SparseColMat<usize, f64>,
+    pub(crate) factorizer: Factorizer,
+    pub(crate) node_xyz: Vec<[f64; 3]>,
+    pub(crate) absorber_directions: Vec<[f64; 3]>,
+}
+
+/// One element's contribution: its DOFs (free index or `None`) and row-major K and M blocks.
+struct Block {
+    label: String,
+    dofs: Vec<Option<usize>>,
+    k: Vec<f64>,
+    m: Vec<f64>,
+}
+
+impl Block {
+    fn new(label: String, dofs: Vec<Option<usize>>) -> Self {
+        let n = dofs.len();
+        Self {
+            label,
+            dofs,
+            k: vec![0.0; n * n],
+            m: vec![0.0; n * n],
+        }
+    }
+}
+
+fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
+    let b = &s.beams[i];
+    let kind = match s.mass_matrix {
+        MassMatrix::Consistent => MassKind::Consistent,
+        MassMatrix::Lumped => MassKind::Lumped,
+    };
+    let (k, m) = global_matrices(
+        s.nodes[b.nodes[0]].xyz,
+        s.nodes[b.nodes[1]].xyz,
+        b.orientation,
+        &b.section,
+        &b.material,
+        kind,
+    );
+    let mut d = Vec::with_capacity(12);
+    d.extend(dofs.node_dofs(b.nodes[0]));
+    d.extend(dofs.node_dofs(b.nodes[1]));
+    let mut block = Block::new(b.label.clone(), d);
+    for r in 0..12 {
+        for c in 0..12 {
+            block.k[12 * r + c] = k[r][c];
+            block.m[12 * r + c] = m[r][c];
+        }
+    }
+    block
+}
+
+fn absorber_block(a: &AbsorberSpec, dofs: &DofMap, index: usize) -> Block {
+    // Spring energy ½ k (z − eᵀu)²: K = k [e eᵀ, −e; −eᵀ, 1] on [ux, uy, uz, z]; mass m on z.
+    let nd = dofs.node_dofs(a.node);
+    let mut block = Block::new(
+        format!("absorber \"{}\"", a.name),
+        vec![nd[0], nd[1], nd[2], dofs.absorber_dof(index)],
+    );
+    let e = a.direction.unit;
+    let k = a.stiffness;
+    for r in 0..3 {
+        for c in 0..3 {
+            block.k[4 * r + c] = k * e[r] * e[c];
+        }
+        block.k[4 * r + 3] = -k * e[r];
+        block.k[12 + r] = -k * e[r];
+    }
+    block.k[15] = k;
+    block.m[15] = a.mass;
+    block
+}
+
+/// Assembles K and M of `s`.
+///
+/// # Errors
+/// [`SolverError::NoFreeDofs`] if nothing can move, [`SolverError::NotFinite`] naming an element
+/// whose matrices overflow, [`SolverError::MasslessDof`] for a DOF with stiffness but no mass.
+pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, SolverError> {
+    let dofs = DofMap::new(s, options.include_absorbers);
+    let n = dofs.n_dofs();
+    if n == 0 {
+        return Err(SolverError::NoFreeDofs);
+    }
+    let mut blocks: Vec<Block> = (0..s.beams.len())
+        .into_par_iter()
+        .map(|i| beam_block(s, &dofs, i))
+        .collect();
+    for sp in &s.springs {
+        match sp.other {
+            None => {
+                let mut b = Block::new(sp.label.clone(), dofs.node_dofs(sp.node).to_vec());
+                for d in 0..6 {
+                    b.k[6 * d + d] = sp.stiffness[d];
+                }
+                blocks.push(b);
+            }
+            Some(o) => {
+                let mut d = dofs.node_dofs(sp.node).to_vec();
+                d.extend(dofs.node_dofs(o));
+                let mut b = Block::new(sp.label.clone(), d);
+                let k = link_stiffness(sp.stiffness);
+                for r in 0..12 {
+                    for c in 0..12 {
+                        b.k[12 * r + c] = k[r][c];
+                    }
+                }
+                blocks.push(b);
+            }
+        }
+    }
+    for (i, p) in s.point_masses.iter().enumerate() {
+        let mut b = Block::new(
+            format!("point_masses[{i}]"),
+            dofs.node_dofs(p.node).to_vec(),
+        );
+        let m = point_mass(p.mass, p.inertia);
+        for d in 0..6 {
+            b.m[6 * d + d] = m[d];
+        }
+        blocks.push(b);
+    }
+    if options.include_absorbers {
+        for (i, a) in s.absorbers.iter().enumerate() {
+            blocks.push(absorber_block(a, &dofs, i));
+        }
+    }
+    for b in &blocks {
+        if b.k.iter().chain(&b.m).any(|v| !v.is_finite()) {
+            return Err(SolverError::NotFinite {
+                what: format!("the matrices of {}", b.label),
+            });
+        }
+    }
+    let mut pairs = Vec::new();
+    let mut kv = Vec::new();
+    let mut mv = Vec::new();
+    for b in &blocks {
+        let nb = b.dofs.len();
+        for r in 0..nb {
+            let Some(i) = b.dofs[r] else { continue };
+            for c in 0..nb {
+                let Some(j) = b.dofs[c] else { continue };
+                pairs.push(Pair { row: i, col: j });
+                kv.push(b.k[nb * r + c]);
+                mv.push(b.m[nb * r + c]);
+            }
+        }
+    }
+    // Every free DOF gets a diagonal entry, so the pattern is never structurally singular.
+    for i in 0..n {
+        pairs.push(Pair { row: i, col: i });
+        kv.push(0.0);
+        mv.push(0.0);
+    }
+    let (pattern, argsort) =
+        SymbolicSparseColMat::try_new_from_indices(n, n, &pairs).map_err(|e| {
+            SolverError::Factorization {
+                shift: 0.0,
+                detail: format!("pattern: {e:?}"),
+            }
+        })?;
+    let k = SparseColMat::new_from_argsort(pattern.clone(), &argsort, &kv).map_err(|e| {
+        SolverError::Factorization {
+            shift: 0.0,
+            detail: format!("stiffness values: {e:?}"),
+        }
+    })?;
+    let m = SparseColMat::new_from_argsort(pattern.clone(), &argsort, &mv).map_err(|e| {
+        SolverError::Factorization {
+            shift: 0.0,
+            detail: format!("mass values: {e:?}"),
+        }
+    })?;
+    let system = System {
+        factorizer: Factorizer::new(&pattern)?,
+        dofs,
+        k,
+        m,
+        node_xyz: s.nodes.iter().map(|p| p.xyz).collect(),
+        absorber_directions: s.absorbers.iter().map(|a| a.direction.unit).collect(),
+    };
+    let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
+    let massless: Vec<String> = (0..n)
+        .filter(|&i| md[i] <= 0.0 && kd[i] > 0.0)
+        .map(|i| system.dofs.describe(i, s))
+        .collect();
+    if !massless.is_empty() {
+        let shown: Vec<&str> = massless.iter().take(6).map(String::as_str).collect();
+        return Err(SolverError::MasslessDof {
+            count: massless.len(),
+            dofs: format!(
+                "{}{}",
+                shown.join(", "),
+                if massless.len() > 6 { ", ..." } else { "" }
+            ),
+        });
+    }
+    Ok(system)
+}
+
+impl System {
+    /// The DOF numbering.
+    pub fn dof_map(&self) -> &DofMap {
+        &self.dofs
+    }
+
+    /// Number of free DOFs.
+    pub fn n_dofs(&self) -> usize {
+        self.dofs.n_dofs()
+    }
+
+    /// Number of stored entries of K (both triangles).
+    pub fn n_stored(&self) -> usize {
+        self.k.val().len()
+    }
+
+    pub(crate) fn diagonal(&self, a: &SparseColMat<usize, f64>) -> Vec<f64> {
+        let n = a.ncols();
+        let sym = a.symbolic();
+        let mut d = vec![0.0; n];
+        for (j, dj) in d.iter_mut().enumerate() {
+            for (p, &i) in sym.col_range(j).zip(sym.row_idx_of_col_raw(j)) {
+                if i == j {
+                    *dj += a.val()[p];
+                }
+            }
+        }
+        d
+    }
+
+    /// Y = K X.
+    pub(crate) fn mul_k(&self, x: MatRef<'_, f64>) -> Mat<f64> {
+        mul(&self.k, x)
+    }
+
+    /// Y = M X.
+    pub(crate) fn mul_m(&self, x: MatRef<'_, f64>) -> Mat<f64> {
+        mul(&self.m, x)
+    }
+
+    /// Dense copies of K and M (for the dense reference solver and small problems).
+    pub(crate) fn dense(&self) -> (Mat<f64>, Mat<f64>) {
+        (self.k.to_dense(), self.m.to_dense())
+    }
+
+    /// Sum of the translational mass per global direction over the free DOFs: rᵀ M r for the unit
+    /// rigid translation r along X, Y, Z, in kg.
+    pub fn unrestrained_mass(&self) -> [f64; 3] {
+        let r = self.translation_vectors();
+        let mr = self.mul_m(r.as_ref());
+        let mut out = [0.0; 3];
+        for (d, o) in out.iter_mut().enumerate() {
+            *o = (0..self.n_dofs()).map(|i| r[(i, d)] * mr[(i, d)]).sum();
+        }
+        out
+    }
+
+    /// Unit rigid translations along X, Y, Z over the free DOFs (an n × 3 matrix; absorber DOFs
+    /// move with their direction's share).
+    pub(crate) fn translation_vectors(&self) -> Mat<f64> {
+        let n = self.n_dofs();
+        let mut r = Mat::<f64>::zeros(n, 3);
+        for i in 0..n {
+            match self.dofs.owner(i) {
+                DofOwner::Node { component, .. } if component < 3 => r[(i, component)] = 1.0,
+                DofOwner::Node { .. } => {}
+                DofOwner::Absorber { absorber } => {
+                    for d in 0..3 {
+                        r[(i, d)] = self.absorber_directions[absorber][d];
+                    }
+                }
+            }
+        }
+        r
+    }
+}
+
+fn mul(a: &SparseColMat<usize, f64>, x: MatRef<'_, f64>) -> Mat<f64> {
+    let mut y = Mat::<f64>::zeros(a.nrows(), x.ncols());
+    faer::sparse::linalg::matmul::sparse_dense_matmul(
+        y.as_mut(),
+        Accum::Replace,
+        a.as_ref(),
+        x,
+        1.0,
+        Par::Seq,
+    );
+    y
+}

@@ -1,0 +1,681 @@
+//! Natural modes: K φ = λ M φ with λ = ω² (rad²/s²), modes mass-normalised (Φᵀ M Φ = I),
+//! eigenvalues ascending.
+//!
+//! Route: a rank-revealing LDLᵀ of K counts and locates zero-energy (rigid-body or mechanism)
+//! motions; the shift σ is 0 when K is positive definite and slightly negative otherwise, so that
+//! K − σM is positive definite and one Cholesky factor serves the whole run. Zero-energy modes are
+//! found by subspace iteration on (K − σM)⁻¹M (they converge at once, being isolated at θ = 1/|σ|),
+//! the rest by block Lanczos (see [`lanczos`]) with locking and restarts until a Sturm-sequence count
+//! at the top of the request proves that none is missing. A final Rayleigh–Ritz on all locked vectors
+//! gives the eigenvalues as Rayleigh quotients and exact M-orthonormality. Exactly repeated
+//! eigenvalues (relative spread below 1e-10) have their eigenvectors rotated into a canonical
+//! orientation within the eigenspace (see [`post`]), so results do not depend on round-off.
+
+mod dense;
+mod lanczos;
+mod post;
+
+use faer::{Mat, MatRef, Side};
+use serde::Serialize;
+
+use antinode_mesh::Structure;
+
+use crate::assembly::System;
+use crate::error::SolverError;
+use crate::factor::{Factor, shifted};
+use lanczos::{Operator, RunParams};
+
+/// Which modes to compute.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ModeRequest {
+    /// The lowest `n` modes (zero-energy modes included).
+    Lowest(usize),
+    /// Every mode with frequency in `[low_hz, high_hz]`.
+    Band {
+        /// Lower edge, in Hz (0 includes zero-energy modes).
+        low_hz: f64,
+        /// Upper edge, in Hz.
+        high_hz: f64,
+    },
+}
+
+/// How to solve.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Method {
+    /// Dense for tiny models, Lanczos otherwise.
+    Auto,
+    /// Block shift-invert Lanczos on the sparse factorization.
+    Lanczos,
+    /// Dense reference solver (all modes, O(n³)).
+    Dense,
+}
+
+/// Solver settings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct EigenParams {
+    /// Lanczos block size (≥ 1); at least the largest expected multiplicity. Default 3.
+    pub block_size: usize,
+    /// Convergence tolerance on ‖Op y − θ y‖_M / |θ|. Default 1e-11.
+    pub tolerance: f64,
+    /// Route.
+    pub method: Method,
+    /// Seed of the random start blocks (results are bit-identical for one seed).
+    pub seed: u64,
+    /// Largest number of Lanczos restarts before giving up.
+    pub max_restarts: usize,
+}
+
+impl Default for EigenParams {
+    fn default() -> Self {
+        Self {
+            block_size: 3,
+            tolerance: 1e-11,
+            method: Method::Auto,
+            seed: 0x5eed_a11d,
+            max_restarts: 12,
+        }
+    }
+}
+
+/// Result of the Sturm-sequence completeness check: the number of eigenvalues below `shift_hz`
+/// from the inertia of K − σM (`count_expected`) against the number computed (`count_found`).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SturmCheck {
+    /// Frequency of the check shift, in Hz.
+    pub shift_hz: f64,
+    /// Negative pivots of the LDLᵀ of K − σM (eigenvalues below the shift).
+    pub count_expected: usize,
+    /// Computed eigenvalues below the shift.
+    pub count_found: usize,
+    /// Whether the two agree.
+    pub passed: bool,
+}
+
+/// Work done by a solve.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct SolveStats {
+    /// Numeric factorizations (the zero-energy check and Sturm checks included).
+    pub factorizations: usize,
+    /// Block solves with a factor.
+    pub block_solves: usize,
+    /// Lanczos runs (1 + restarts).
+    pub lanczos_runs: usize,
+    /// Stored values of one factor.
+    pub factor_entries: usize,
+}
+
+/// Computed modes.
+#[derive(Debug, Clone)]
+pub struct ModalSolution {
+    /// λ = ω² in rad²/s², ascending.
+    pub eigenvalues: Vec<f64>,
+    shapes: Mat<f64>,
+    /// Relative residual ‖Kφ − λMφ‖ / (|λ| ‖Mφ‖ + ‖Kφ‖) of each mode.
+    pub residuals: Vec<f64>,
+    /// max |Φᵀ M Φ − I| over the whole set.
+    pub orthogonality_error: f64,
+    /// Completeness check: Sturm count just above the highest returned mode.
+    pub sturm_check: SturmCheck,
+    /// Number of zero-energy modes among the results.
+    pub n_zero_energy: usize,
+    /// Shift used by the factorization, in rad²/s².
+    pub shift: f64,
+    /// Work done.
+    pub stats: SolveStats,
+}
+
+impl ModalSolution {
+    /// Number of modes.
+    pub fn n_modes(&self) -> usize {
+        self.eigenvalues.len()
+    }
+
+    /// Number of free DOFs of each shape.
+    pub fn n_dofs(&self) -> usize {
+        self.shapes.nrows()
+    }
+
+    /// Shape of mode `i` (from 0) over the free DOFs.
+    pub fn shape(&self, i: usize) -> &[f64] {
+        self.shapes
+            .col(i)
+            .try_as_col_major()
+            .map(|c| c.as_slice())
+            .unwrap_or(&[])
+    }
+
+    /// Natural frequency of mode `i` in Hz (0 for zero-energy modes with a round-off negative λ).
+    pub fn frequency_hz(&self, i: usize) -> f64 {
+        self.eigenvalues[i].max(0.0).sqrt() / (2.0 * std::f64::consts::PI)
+    }
+
+    pub(crate) fn shapes(&self) -> MatRef<'_, f64> {
+        self.shapes.as_ref()
+    }
+
+    /// Keeps the modes whose index satisfies `keep`.
+    pub(crate) fn retain(&mut self, keep: impl Fn(usize) -> bool) {
+        let idx: Vec<usize> = (0..self.n_modes()).filter(|&i| keep(i)).collect();
+        let n = self.shapes.nrows();
+        let shapes = Mat::from_fn(n, idx.len(), |r, c| self.shapes[(r, idx[c])]);
+        self.eigenvalues = idx.iter().map(|&i| self.eigenvalues[i]).collect();
+        self.residuals = idx.iter().map(|&i| self.residuals[i]).collect();
+        self.n_zero_energy = idx.iter().filter(|&&i| i < self.n_zero_energy).count();
+        self.shapes = shapes;
+    }
+}
+
+/// Relative pivot size below which the rank-revealing LDLᵀ of the unit-diagonal-scaled K declares a
+/// DOF free of stiffness (a zero-energy direction).
+const ZERO_PIVOT: f64 = 1e-11;
+
+/// Shift magnitude for singular K, relative to the median of K_ii / M_ii (the scale of element-level
+/// eigenvalues): small enough to sit well below the first elastic mode of fine meshes, large
+/// enough for a well-conditioned Cholesky factor.
+const RIGID_SHIFT: f64 = 1e-10;
+
+/// Eigenvalues below this fraction of the median K_ii / M_ii count as zero-energy.
+const ZERO_EIGENVALUE: f64 = 1e-13;
+
+fn hz_to_lambda(f: f64) -> f64 {
+    (2.0 * std::f64::consts::PI * f).powi(2)
+}
+
+fn lambda_to_hz(l: f64) -> f64 {
+    l.max(0.0).sqrt() / (2.0 * std::f64::consts::PI)
+}
+
+/// Median of K_ii / M_ii over DOFs with both positive: the scale of element-level eigenvalues.
+fn eigenvalue_scale(system: &System) -> f64 {
+    let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
+    let mut r: Vec<f64> = kd
+        .iter()
+        .zip(&md)
+        .filter(|(k, m)| **k > 0.0 && **m > 0.0)
+        .map(|(k, m)| k / m)
+        .collect();
+    if r.is_empty() {
+        return 1.0;
+    }
+    r.sort_by(f64::total_cmp);
+    r[r.len() / 2]
+}
+
+/// Zero-energy analysis of K: the free DOFs at which the rank-revealing LDLᵀ found no stiffness.
+pub(crate) fn zero_energy_dofs(system: &System) -> Result<Vec<usize>, SolverError> {
+    let (_, marked) = system
+        .factorizer
+        .ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
+    Ok(marked)
+}
+
+/// Number of eigenvalues below `lambda` by the inertia of K − λM, moving the shift slightly if it
+/// falls on an eigenvalue.
+pub(crate) fn sturm_count(
+    system: &System,
+    lambda: f64,
+    stats: &mut SolveStats,
+) -> Result<(usize, f64), SolverError> {
+    let mut s = lambda;
+    for attempt in 0..6 {
+        let a = shifted(&system.k, &system.m, s);
+        stats.factorizations += 1;
+        if let Some(f) = system.factorizer.ldlt(&a)? {
+            let inertia = f.inertia();
+            if inertia.zero == 0 {
+                return Ok((inertia.negative, s));
+            }
+        }
+        // σ is (numerically) an eigenvalue: nudge upward by a growing relative amount.
+        s = lambda * (1.0 + 1e-9 * 10f64.powi(attempt)) + f64::EPSILON * (attempt as f64 + 1.0);
+    }
+    Err(SolverError::Factorization {
+        shift: lambda,
+        detail: "no usable LDLᵀ near this shift for the Sturm count".into(),
+    })
+}
+
+/// Computes the requested modes of `system`.
+///
+/// # Errors
+/// [`SolverError::Request`] for an impossible request (zero modes, an empty or reversed band, more
+/// modes than DOFs, no mode in the band); [`SolverError::NoConvergence`] if the Sturm check cannot
+/// be satisfied; [`SolverError::Factorization`] if no usable factorization exists.
+pub fn solve_modes(
+    system: &System,
+    request: ModeRequest,
+    params: &EigenParams,
+) -> Result<ModalSolution, SolverError> {
+    let n = system.n_dofs();
+    match request {
+        ModeRequest::Lowest(0) => {
+            return Err(SolverError::Request(
+                "zero modes requested; ask for at least one".into(),
+            ));
+        }
+        ModeRequest::Lowest(c) if c > n => {
+            return Err(SolverError::Request(format!(
+                "{c} modes requested but the model has only {n} free DOFs"
+            )));
+        }
+        ModeRequest::Band { low_hz, high_hz } => {
+            if !(low_hz.is_finite() && high_hz.is_finite() && low_hz >= 0.0 && high_hz > low_hz) {
+                return Err(SolverError::Request(format!(
+                    "[{low_hz}, {high_hz}] Hz is not a band; give 0 <= low < high"
+                )));
+            }
+        }
+        ModeRequest::Lowest(_) => {}
+    }
+    let dense = match params.method {
+        Method::Dense => true,
+        Method::Lanczos => false,
+        Method::Auto => n <= 120,
+    };
+    let mut sol = if dense {
+        solve_dense(system, request)?
+    } else {
+        solve_lanczos(system, request, params)?
+    };
+    let st = sol.sturm_check;
+    if !st.passed {
+        return Err(SolverError::NoConvergence(format!(
+            "Sturm check failed: the inertia of K - sigma M puts {} eigenvalues below {:.6} Hz but {} were computed",
+            st.count_expected, st.shift_hz, st.count_found
+        )));
+    }
+    if sol.n_modes() == 0 {
+        if let ModeRequest::Band { low_hz, high_hz } = request {
+            return Err(SolverError::Request(format!(
+                "no mode lies in the band [{low_hz}, {high_hz}] Hz"
+            )));
+        }
+    }
+    post::finish(system, &mut sol, eigenvalue_scale(system));
+    Ok(sol)
+}
+
+fn solve_dense(system: &System, request: ModeRequest) -> Result<ModalSolution, SolverError> {
+    let scale = eigenvalue_scale(system);
+    let (vals, phi) = dense::all_modes(system, scale, ZERO_EIGENVALUE * scale)?;
+    let n_zero = vals
+        .iter()
+        .filter(|&&l| l <= ZERO_EIGENVALUE * scale)
+        .count();
+    let mut stats = SolveStats::default();
+    // Sturm check just above the highest selected mode, as for the sparse route.
+    let selected = match request {
+        ModeRequest::Lowest(c) => c.min(vals.len()),
+        ModeRequest::Band { high_hz, .. } => {
+            vals.iter().filter(|&&l| l <= hz_to_lambda(high_hz)).count()
+        }
+    };
+    let sturm = if selected == 0 {
+        SturmCheck {
+            shift_hz: 0.0,
+            count_expected: 0,
+            count_found: 0,
+            passed: true,
+        }
+    } else {
+        let top = check_shift(&vals, selected, &[], 0.0, scale);
+        let (cnt, shift) = sturm_count(system, top, &mut stats)?;
+        let found = vals.iter().filter(|&&l| l < shift).count();
+        SturmCheck {
+            shift_hz: lambda_to_hz(shift),
+            count_expected: cnt,
+            count_found: found,
+            passed: cnt == found,
+        }
+    };
+    let mut sol = ModalSolution {
+        residuals: vec![0.0; vals.len()],
+        eigenvalues: vals,
+        shapes: phi,
+        orthogonality_error: 0.0,
+        sturm_check: sturm,
+        n_zero_energy: n_zero,
+        shift: 0.0,
+        stats,
+    };
+    select(&mut sol, request);
+    Ok(sol)
+}
+
+fn select(sol: &mut ModalSolution, request: ModeRequest) {
+    let vals = sol.eigenvalues.clone();
+    match request {
+        ModeRequest::Lowest(c) => sol.retain(|i| i < c),
+        ModeRequest::Band { low_hz, high_hz } => {
+            let (lo, hi) = (hz_to_lambda(low_hz), hz_to_lambda(high_hz));
+            sol.retain(|i| (low_hz == 0.0 || vals[i] >= lo) && vals[i] <= hi);
+        }
+    }
+}
+
+struct Locked {
+    y: Mat<f64>,
+    my: Mat<f64>,
+}
+
+impl Locked {
+    fn push(&mut self, system: &System, v: MatRef<'_, f64>) {
+        if v.ncols() == 0 {
+            return;
+        }
+        let n = self.y.nrows();
+        let m = self.y.ncols();
+        let mut y2 = Mat::<f64>::zeros(n, m + v.ncols());
+        y2.subcols_mut(0, m).copy_from(self.y.as_ref());
+        y2.subcols_mut(m, v.ncols()).copy_from(v);
+        let mv = system.mul_m(v);
+        let mut my2 = Mat::<f64>::zeros(n, m + v.ncols());
+        my2.subcols_mut(0, m).copy_from(self.my.as_ref());
+        my2.subcols_mut(m, v.ncols()).copy_from(mv.as_ref());
+        self.y = y2;
+        self.my = my2;
+    }
+}
+
+/// Rayleigh–Ritz of (K, M) on the span of `y`: ascending eigenvalues and M-orthonormal vectors.
+fn rayleigh_ritz(system: &System, y: MatRef<'_, f64>) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
+    let k = y.ncols();
+    if k == 0 {
+        return Ok((vec![], Mat::zeros(y.nrows(), 0)));
+    }
+    let ky = system.mul_k(y);
+    let my = system.mul_m(y);
+    let kr = y.transpose() * ky.as_ref();
+    let mr = y.transpose() * my.as_ref();
+    let kr = Mat::from_fn(k, k, |i, j| 0.5 * (kr[(i, j)] + kr[(j, i)]));
+    let mr = Mat::from_fn(k, k, |i, j| 0.5 * (mr[(i, j)] + mr[(j, i)]));
+    let llt = mr.llt(Side::Lower).map_err(|e| {
+        SolverError::NoConvergence(format!(
+            "the computed mode set is not linearly independent ({e:?})"
+        ))
+    })?;
+    let l = llt.L().to_owned();
+    let mut x = kr.clone();
+    faer::linalg::triangular_solve::solve_lower_triangular_in_place(
+        l.as_ref(),
+        x.as_mut(),
+        faer::Par::Seq,
+    );
+    let mut c = x.transpose().to_owned();
+    faer::linalg::triangular_solve::solve_lower_triangular_in_place(
+        l.as_ref(),
+        c.as_mut(),
+        faer::Par::Seq,
+    );
+    let c = Mat::from_fn(k, k, |i, j| 0.5 * (c[(i, j)] + c[(j, i)]));
+    let evd = c
+        .self_adjoint_eigen(Side::Lower)
+        .map_err(|e| SolverError::NoConvergence(format!("{e:?}")))?;
+    let vals: Vec<f64> = (0..k).map(|i| evd.S().column_vector()[i]).collect();
+    let mut s = evd.U().to_owned();
+    faer::linalg::triangular_solve::solve_upper_triangular_in_place(
+        l.transpose(),
+        s.as_mut(),
+        faer::Par::Seq,
+    );
+    Ok((vals, y * s))
+}
+
+fn solve_lanczos(
+    system: &System,
+    request: ModeRequest,
+    params: &EigenParams,
+) -> Result<ModalSolution, SolverError> {
+    let n = system.n_dofs();
+    let mut stats = SolveStats {
+        factor_entries: system.factorizer.factor_len(),
+        ..SolveStats::default()
+    };
+    let scale = eigenvalue_scale(system);
+    let zero_dofs = zero_energy_dofs(system)?;
+    stats.factorizations += 1;
+    // Shift and its Cholesky factor.
+    let mut sigma = if zero_dofs.is_empty() {
+        0.0
+    } else {
+        -RIGID_SHIFT * scale
+    };
+    let mut factor: Option<Factor> = None;
+    for _ in 0..4 {
+        stats.factorizations += 1;
+        match system
+            .factorizer
+            .llt(&shifted(&system.k, &system.m, sigma))?
+        {
+            Some(f) => {
+                factor = Some(f);
+                break;
+            }
+            None => {
+                sigma = if sigma == 0.0 {
+                    -RIGID_SHIFT * scale
+                } else {
+                    100.0 * sigma
+                }
+            }
+        }
+    }
+    let factor = factor.ok_or_else(|| SolverError::Factorization {
+        shift: sigma,
+        detail: "K - sigma M is not positive definite below the spectrum; the mass matrix may be singular".into(),
+    })?;
+    let op = Operator {
+        system,
+        factor: &factor,
+    };
+    let mut locked = Locked {
+        y: Mat::zeros(n, 0),
+        my: Mat::zeros(n, 0),
+    };
+    // Zero-energy subspace by subspace iteration: θ = 1/|σ| is far above every elastic θ.
+    if !zero_dofs.is_empty() && sigma < 0.0 {
+        let z = zero_space(&op, zero_dofs.len().min(n), params.seed, &mut stats);
+        let (vals, vecs) = rayleigh_ritz(system, z.as_ref())?;
+        let keep: Vec<usize> = (0..vals.len())
+            .filter(|&i| vals[i].abs() <= 1e-3 * sigma.abs())
+            .collect();
+        let v = Mat::from_fn(n, keep.len(), |r, c| vecs[(r, keep[c])]);
+        locked.push(system, v.as_ref());
+    }
+    let p = params.block_size.max(1);
+    // For a band, the Sturm count at its top says how many modes to find.
+    let band = match request {
+        ModeRequest::Band { high_hz, .. } => {
+            Some(sturm_count(system, hz_to_lambda(high_hz), &mut stats)?)
+        }
+        ModeRequest::Lowest(_) => None,
+    };
+    let mut runs = 0usize;
+    let mut last_all_theta: Vec<f64> = Vec::new();
+    let mut boost = 1usize;
+    let sturm = loop {
+        let (vals, _) = rayleigh_ritz(system, locked.y.as_ref())?;
+        // How many more modes to look for, and the completeness check when none.
+        let need = match (request, band) {
+            (ModeRequest::Band { .. }, Some((cnt, shift))) => {
+                let found = vals.iter().filter(|&&l| l < shift).count();
+                if found >= cnt {
+                    break SturmCheck {
+                        shift_hz: lambda_to_hz(shift),
+                        count_expected: cnt,
+                        count_found: found,
+                        passed: found == cnt,
+                    };
+                }
+                cnt - found
+            }
+            (ModeRequest::Lowest(c), _) if vals.len() < c => c - vals.len(),
+            (ModeRequest::Lowest(c), _) => {
+                let top = check_shift(&vals, c, &last_all_theta, sigma, scale);
+                let (cnt, shift) = sturm_count(system, top, &mut stats)?;
+                let found = vals.iter().filter(|&&l| l < shift).count();
+                if found >= cnt {
+                    break SturmCheck {
+                        shift_hz: lambda_to_hz(shift),
+                        count_expected: cnt,
+                        count_found: found,
+                        passed: found == cnt,
+                    };
+                }
+                cnt - found
+            }
+            (ModeRequest::Band { .. }, None) => 0,
+        };
+        let have = locked.y.ncols();
+        if runs > params.max_restarts || have >= n {
+            return Err(SolverError::NoConvergence(format!(
+                "{need} mode(s) still missing below the top of the request after {runs} Lanczos runs \
+                 (block size {p}); raise the block size if modes of higher multiplicity are expected"
+            )));
+        }
+        let run_params = RunParams {
+            block: p,
+            max_dim: ((2 * need + 6 * p) * boost).max(8 * p).min(n - have),
+            tolerance: params.tolerance,
+            seed: params.seed.wrapping_add(runs as u64),
+        };
+        let pairs = lanczos::run(
+            &op,
+            locked.y.as_ref(),
+            locked.my.as_ref(),
+            need,
+            &run_params,
+        )?;
+        runs += 1;
+        stats.lanczos_runs += 1;
+        stats.block_solves += pairs.n_solves;
+        last_all_theta = pairs.all_theta.clone();
+        if pairs.theta.len() < need {
+            boost *= 2;
+        }
+        locked.push(system, pairs.vectors.as_ref());
+    };
+    let (vals, vecs) = rayleigh_ritz(system, locked.y.as_ref())?;
+    let n_zero = vals
+        .iter()
+        .filter(|&&l| l <= ZERO_EIGENVALUE * scale)
+        .count();
+    let mut sol = ModalSolution {
+        residuals: vec![0.0; vals.len()],
+        eigenvalues: vals,
+        shapes: vecs,
+        orthogonality_error: 0.0,
+        sturm_check: sturm,
+        n_zero_energy: n_zero,
+        shift: sigma,
+        stats,
+    };
+    match request {
+        ModeRequest::Lowest(c) => sol.retain(|i| i < c),
+        ModeRequest::Band { low_hz, high_hz } => {
+            let (lo, hi) = (hz_to_lambda(low_hz), hz_to_lambda(high_hz));
+            let vals = sol.eigenvalues.clone();
+            sol.retain(|i| (low_hz == 0.0 || vals[i] >= lo) && vals[i] <= hi);
+        }
+    }
+    Ok(sol)
+}
+
+/// Subspace iteration for the `k`-dimensional zero-energy space: X ← (K − σM)⁻¹ M X, M-orthonormal.
+fn zero_space(op: &Operator<'_>, k: usize, seed: u64, stats: &mut SolveStats) -> Mat<f64> {
+    use rand::{RngExt, SeedableRng};
+    let n = op.system.n_dofs();
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed ^ 0x7a7a);
+    let mut x = Mat::from_fn(n, k, |_, _| rng.random::<f64>() - 0.5);
+    for _ in 0..8 {
+        let mx = op.system.mul_m(x.as_ref());
+        x = op.apply_to_mx(mx.as_ref());
+        stats.block_solves += 1;
+        // Normalise columns to keep the numbers in range; Rayleigh–Ritz orthonormalises at the end.
+        for c in 0..k {
+            let norm = (0..n).map(|i| x[(i, c)] * x[(i, c)]).sum::<f64>().sqrt();
+            if norm > 0.0 {
+                for i in 0..n {
+                    x[(i, c)] /= norm;
+                }
+            }
+        }
+    }
+    x
+}
+
+pub use post::participation;
+
+/// Checks the zero-energy (rigid-body and mechanism) motions of `system` against what `structure`
+/// expects, before any eigen solution: returns their number.
+///
+/// # Errors
+/// [`SolverError::Mechanism`] naming the DOFs where the stiffness vanishes when the count differs
+/// from [`Structure::expected_rigid_body_modes`] (the user's `rigid_body_modes`, or 0 for a held
+/// model and 6 per free part with beams).
+pub fn check_zero_energy(structure: &Structure, system: &System) -> Result<usize, SolverError> {
+    let zero = zero_energy_dofs(system)?;
+    let Some(expected) = structure.expected_rigid_body_modes() else {
+        return Ok(zero.len());
+    };
+    if zero.len() == expected {
+        return Ok(zero.len());
+    }
+    let mut names: Vec<String> = zero
+        .iter()
+        .take(8)
+        .map(|&d| system.dofs.describe(d, structure))
+        .collect();
+    if zero.len() > 8 {
+        names.push("...".into());
+    }
+    let detail = if zero.len() > expected {
+        format!(
+            "nothing restrains the motion found at {} (a support is missing or a DOF is released); \
+             add supports or springs, or state the intended count as \"rigid_body_modes\"",
+            names.join(", ")
+        )
+    } else {
+        format!(
+            "{} found{}; state the intended count as \"rigid_body_modes\"",
+            zero.len(),
+            if names.is_empty() {
+                String::new()
+            } else {
+                format!(" at {}", names.join(", "))
+            }
+        )
+    };
+    Err(SolverError::Mechanism {
+        found: zero.len(),
+        expected,
+        detail,
+    })
+}
+
+/// A shift just above the `c`-th computed eigenvalue and below the next one (computed or estimated
+/// from Ritz values), for the Sturm check of a request for the lowest `c` modes.
+fn check_shift(vals: &[f64], c: usize, ritz_theta: &[f64], sigma: f64, scale: f64) -> f64 {
+    let lc = vals[c - 1];
+    let next_found = vals.get(c).copied().unwrap_or(f64::INFINITY);
+    let next_ritz = ritz_theta
+        .iter()
+        .map(|&t| sigma + 1.0 / t)
+        .filter(|&l| l > lc + 1e-12 * lc.abs())
+        .fold(f64::INFINITY, f64::min);
+    let next = next_found.min(next_ritz);
+    if lc <= ZERO_EIGENVALUE * scale {
+        // Only zero-energy modes wanted: count below a small positive value.
+        let small = sigma.abs().max(1e-6 * scale);
+        return if next.is_finite() {
+            (0.5 * next).min(small)
+        } else {
+            small
+        };
+    }
+    if next.is_finite() && next > lc {
+        lc + (0.5 * (next - lc)).min(1e-3 * lc).max(1e-7 * lc)
+    } else {
+        lc * (1.0 + 1e-3)
+    }
+}

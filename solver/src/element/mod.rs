@@ -1,0 +1,6 @@
+//! Element kernels: pure functions of geometry, section and material returning fixed-size
+//! matrices. They know nothing of global storage.
+
+pub mod beam;
+pub mod point_mass;
+pub mod spring;

@@ -1,0 +1,430 @@
+//! Harmonic response by modal superposition with static residual flexibility, and absorbers coupled
+//! exactly by receptance coupling.
+//!
+//! A *coordinate* is the displacement of a node along a unit direction, u_c = eᵀ u(node). For kept
+//! modes r (mass-normalised, λ_r = ω_r², viscous modal damping ratio ζ_r) the receptance between
+//! coordinates a and b is
+//!
+//! ```text
+//! H_ab(ω) = Σ_r φ_ar φ_br / (λ_r − ω² + 2iζ_r ω_r ω) + R_ab,
+//! R_ab    = e_aᵀ [(K − σM)⁻¹ − Σ_r φ_r φ_rᵀ/(λ_r − σ)] e_b      (residual flexibility)
+//! ```
+//!
+//! R carries the static contribution of the truncated modes (they respond quasi-statically below
+//! their frequencies; Craig & Kurdila, Fundamentals of Structural Dynamics, 2006, mode-acceleration
+//! and residual flexibility). It is computed without cancellation: the load is first made
+//! M-orthogonal to the kept modes, so the solve returns only truncated-mode content. σ is the
+//! shift of the eigen solution (0, or slightly negative for a free body, where the static
+//! flexibility does not exist).
+//!
+//! Absorbers: mass m on a spring of complex stiffness k* (k + iωc viscous, or k(1 + iη) hysteretic)
+//! attached at coordinate a along its direction. With y_i = x_ai/(k*_i − ω²m_i) the coupled
+//! equations are
+//!
+//! ```text
+//! (k*_j − ω²m_j) y_j − ω² Σ_i H_{a_j a_i} m_i k*_i y_i = Σ_l H_{a_j f_l} F_l,
+//! ```
+//!
+//! which stay finite at an undamped absorber's own frequency (where the attachment motion
+//! x_a = (k* − ω²m) y is exactly zero). The absorber's force on the structure is
+//! g_i = k*_i(z_i − x_ai) = ω² m_i k*_i y_i, its stroke (relative displacement) s_i = ω² m_i y_i, and
+//! any response x_r = Σ_l H_{r f_l} F_l + Σ_i H_{r a_i} g_i. This is the receptance-coupling
+//! (structural modification) identity, exact for point attachments.
+
+use antinode_mesh::AbsorberDamping;
+use faer::Mat;
+use num_complex::Complex64;
+
+use crate::assembly::System;
+use crate::eigen::ModalSolution;
+use crate::error::SolverError;
+
+/// Displacement of a node along a unit direction (translations only).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Coordinate {
+    /// Node index.
+    pub node: usize,
+    /// Unit direction.
+    pub direction: [f64; 3],
+}
+
+/// Modal data at a set of coordinates: everything a frequency response needs.
+#[derive(Debug, Clone)]
+pub struct ModalModel {
+    eigenvalues: Vec<f64>,
+    damping: Vec<f64>,
+    n_coords: usize,
+    /// φ[c · n_modes + r] = eᵀ φ_r(node).
+    phi: Vec<f64>,
+    /// Residual flexibility among the coordinates, row-major n_coords², in m/N.
+    residual: Vec<f64>,
+}
+
+/// An absorber attached at a coordinate of a [`ModalModel`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AbsorberLink {
+    /// Coordinate index in the modal model.
+    pub coord: usize,
+    /// Moving mass, in kg.
+    pub mass: f64,
+    /// Spring stiffness, in N/m.
+    pub stiffness: f64,
+    /// Damping.
+    pub damping: AbsorberDamping,
+}
+
+impl AbsorberLink {
+    /// Complex stiffness k* at ω (rad/s): k + iωc, or k(1 + iη).
+    pub fn complex_stiffness(&self, omega: f64) -> Complex64 {
+        match self.damping {
+            AbsorberDamping::None => Complex64::new(self.stiffness, 0.0),
+            AbsorberDamping::Viscous(c) => Complex64::new(self.stiffness, omega * c),
+            AbsorberDamping::LossFactor(eta) => {
+                Complex64::new(self.stiffness, self.stiffness * eta)
+            }
+        }
+    }
+
+    /// Undamped natural frequency √(k/m), in rad/s.
+    pub fn natural_omega(&self) -> f64 {
+        (self.stiffness / self.mass).sqrt()
+    }
+}
+
+/// A harmonic force at a coordinate: complex amplitude F e^{iφ}, in N.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Load {
+    /// Coordinate index in the modal model.
+    pub coord: usize,
+    /// Complex amplitude, in N.
+    pub amplitude: Complex64,
+}
+
+/// Response at one frequency with absorbers coupled.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CoupledResponse {
+    /// Displacement at each requested response coordinate, in m.
+    pub displacement: Vec<Complex64>,
+    /// Stroke of each absorber (its mass relative to its attachment), in m.
+    pub stroke: Vec<Complex64>,
+    /// Force of each absorber's spring and damper on the structure, in N.
+    pub spring_force: Vec<Complex64>,
+}
+
+impl ModalModel {
+    /// Builds the modal model of `coords` from the modes of `solution`, with modal damping ratio
+    /// `damping_ratio` on every elastic mode (zero-energy modes are undamped) and, if
+    /// `with_residual`, the residual flexibility of the truncated modes.
+    ///
+    /// # Errors
+    /// [`SolverError::Factorization`] if K − σM cannot be factored for the residual.
+    pub fn build(
+        system: &System,
+        solution: &ModalSolution,
+        coords: &[Coordinate],
+        damping_ratio: f64,
+        with_residual: bool,
+    ) -> Result<Self, SolverError> {
+        let nm = solution.n_modes();
+        let nc = coords.len();
+        let n = system.n_dofs();
+        let e = coordinate_matrix(system, coords);
+        let mut phi = vec![0.0; nc * nm];
+        for r in 0..nm {
+            let shape = solution.shape(r);
+            for c in 0..nc {
+                phi[c * nm + r] = (0..n).map(|i| e[(i, c)] * shape[i]).sum();
+            }
+        }
+        let damping = (0..nm)
+            .map(|r| {
+                if r < solution.n_zero_energy {
+                    0.0
+                } else {
+                    damping_ratio
+                }
+            })
+            .collect();
+        let mut residual = vec![0.0; nc * nc];
+        if with_residual && nc > 0 {
+            let sigma = solution.shift;
+            let factor = system
+                .factorizer
+                .llt(&crate::factor::shifted(&system.k, &system.m, sigma))?
+                .ok_or_else(|| SolverError::Factorization {
+                    shift: sigma,
+                    detail: "K - sigma M is not positive definite for the residual flexibility"
+                        .into(),
+                })?;
+            let shapes = solution.shapes();
+            // Load made M-orthogonal to the kept modes: E' = E − MΦ(ΦᵀE).
+            let mphi = system.mul_m(shapes);
+            let mut x = e.clone();
+            let pe = shapes.transpose() * e.as_ref();
+            x -= &mphi * &pe;
+            factor.solve_in_place(x.as_mut());
+            // Remove any kept-mode content left by round-off: X ← X − Φ(ΦᵀMX).
+            let c = mphi.transpose() * x.as_ref();
+            x -= shapes * &c;
+            let r = e.transpose() * x.as_ref();
+            for a in 0..nc {
+                for b in 0..nc {
+                    residual[a * nc + b] = 0.5 * (r[(a, b)] + r[(b, a)]);
+                }
+            }
+        }
+        Ok(Self {
+            eigenvalues: solution.eigenvalues.clone(),
+            damping,
+            n_coords: nc,
+            phi,
+            residual,
+        })
+    }
+
+    /// Number of modes kept.
+    pub fn n_modes(&self) -> usize {
+        self.eigenvalues.len()
+    }
+
+    /// Number of coordinates.
+    pub fn n_coords(&self) -> usize {
+        self.n_coords
+    }
+
+    /// Eigenvalues of the kept modes, in rad²/s².
+    pub fn eigenvalues(&self) -> &[f64] {
+        &self.eigenvalues
+    }
+
+    /// Modal coupling φ_cr = eᵀφ_r at coordinate `c` (kg^-½).
+    pub fn coupling(&self, c: usize, r: usize) -> f64 {
+        self.phi[c * self.n_modes() + r]
+    }
+
+    /// Residual flexibility between coordinates `a` and `b`, in m/N.
+    pub fn residual(&self, a: usize, b: usize) -> f64 {
+        self.residual[a * self.n_coords + b]
+    }
+
+    /// Modal factors 1/(λ_r − ω² + 2iζ_r ω_r ω) at ω (rad/s), one per kept mode.
+    pub fn modal_factors(&self, omega: f64) -> Vec<Complex64> {
+        self.eigenvalues
+            .iter()
+            .zip(&self.damping)
+            .map(|(&l, &z)| {
+                let wr = l.max(0.0).sqrt();
+                Complex64::new(l - omega * omega, 2.0 * z * wr * omega).inv()
+            })
+            .collect()
+    }
+
+    /// Receptance H_ab from precomputed modal factors, in m/N.
+    pub fn receptance_with(&self, factors: &[Complex64], a: usize, b: usize) -> Complex64 {
+        let nm = self.n_modes();
+        let (pa, pb) = (
+            &self.phi[a * nm..(a + 1) * nm],
+            &self.phi[b * nm..(b + 1) * nm],
+        );
+        let mut h = Complex64::new(self.residual[a * self.n_coords + b], 0.0);
+        for r in 0..nm {
+            h += factors[r] * (pa[r] * pb[r]);
+        }
+        h
+    }
+
+    /// Receptance H_ab at ω (rad/s), in m/N.
+    pub fn receptance(&self, omega: f64, a: usize, b: usize) -> Complex64 {
+        self.receptance_with(&self.modal_factors(omega), a, b)
+    }
+
+    /// Response at ω (rad/s) to `loads`, at coordinates `responses`, with `absorbers` coupled.
+    pub fn coupled_response(
+        &self,
+        omega: f64,
+        loads: &[Load],
+        responses: &[usize],
+        absorbers: &[AbsorberLink],
+    ) -> CoupledResponse {
+        let factors = self.modal_factors(omega);
+        self.coupled_response_with(&factors, omega, loads, responses, absorbers)
+    }
+
+    /// As [`ModalModel::coupled_response`], with modal factors already computed for ω.
+    pub fn coupled_response_with(
+        &self,
+        factors: &[Complex64],
+        omega: f64,
+        loads: &[Load],
+        responses: &[usize],
+        absorbers: &[AbsorberLink],
+    ) -> CoupledResponse {
+        let w2 = omega * omega;
+        let na = absorbers.len();
+        let forced = |c: usize| -> Complex64 {
+            loads
+                .iter()
+                .map(|l| self.receptance_with(factors, c, l.coord) * l.amplitude)
+                .sum()
+        };
+        let mut g = vec![Complex64::new(0.0, 0.0); na];
+        let mut stroke = vec![Complex64::new(0.0, 0.0); na];
+        if na > 0 {
+            let ks: Vec<Complex64> = absorbers
+                .iter()
+                .map(|a| a.complex_stiffness(omega))
+                .collect();
+            let rhs: Vec<Complex64> = absorbers.iter().map(|a| forced(a.coord)).collect();
+            let y = if na == 1 {
+                let a = &absorbers[0];
+                let h = self.receptance_with(factors, a.coord, a.coord);
+                let n = ks[0] - w2 * a.mass - w2 * h * a.mass * ks[0];
+                vec![rhs[0] / n]
+            } else {
+                let mut nmat = Mat::<Complex64>::zeros(na, na);
+                for j in 0..na {
+                    for i in 0..na {
+                        let h =
+                            self.receptance_with(factors, absorbers[j].coord, absorbers[i].coord);
+                        nmat[(j, i)] = -w2 * h * absorbers[i].mass * ks[i];
+                    }
+                    nmat[(j, j)] += ks[j] - w2 * absorbers[j].mass;
+                }
+                let b = Mat::<Complex64>::from_fn(na, 1, |i, _| rhs[i]);
+                use faer::linalg::solvers::Solve;
+                let sol = nmat.partial_piv_lu().solve(&b);
+                (0..na).map(|i| sol[(i, 0)]).collect()
+            };
+            for i in 0..na {
+                g[i] = w2 * absorbers[i].mass * ks[i] * y[i];
+                stroke[i] = w2 * absorbers[i].mass * y[i];
+            }
+        }
+        let displacement = responses
+            .iter()
+            .map(|&r| {
+                let mut x = forced(r);
+                for (i, a) in absorbers.iter().enumerate() {
+                    x += self.receptance_with(factors, r, a.coord) * g[i];
+                }
+                x
+            })
+            .collect();
+        CoupledResponse {
+            displacement,
+            stroke,
+            spring_force: g,
+        }
+    }
+}
+
+/// The n × c matrix whose column c is the free-DOF vector of coordinate c (its direction on the
+/// node's free translational DOFs).
+fn coordinate_matrix(system: &System, coords: &[Coordinate]) -> Mat<f64> {
+    let mut e = Mat::<f64>::zeros(system.n_dofs(), coords.len());
+    for (c, co) in coords.iter().enumerate() {
+        for k in 0..3 {
+            if let Some(i) = system.dofs.dof(co.node, k) {
+                e[(i, c)] = co.direction[k];
+            }
+        }
+    }
+    e
+}
+
+/// Frequencies (Hz) at which to evaluate a response over `band_hz`: geometric steps of relative
+/// size ζ/2 (four points per half-power bandwidth 2ζ of a mode with damping ratio ζ), plus every
+/// natural frequency in the band. The lower edge is raised to 10⁻³ of the upper when it is 0.
+pub fn frequency_grid(band_hz: [f64; 2], natural_hz: &[f64], damping_ratio: f64) -> Vec<f64> {
+    let hi = band_hz[1];
+    let lo = band_hz[0].max(1e-3 * hi);
+    let step = 1.0 + (damping_ratio / 2.0).clamp(1e-4, 0.05);
+    let n = ((hi / lo).ln() / step.ln()).ceil().max(1.0) as usize;
+    let mut f: Vec<f64> = (0..=n)
+        .map(|i| lo * (hi / lo).powf(i as f64 / n as f64))
+        .collect();
+    f.extend(natural_hz.iter().copied().filter(|&x| x > lo && x < hi));
+    f.sort_by(f64::total_cmp);
+    f.dedup_by(|a, b| (*a - *b).abs() <= 1e-12 * b.abs());
+    f
+}
+
+/// Maximises `f` on [a, b] by golden-section search to a relative interval of `tol`; returns
+/// (argmax, max).
+pub fn golden_max(mut a: f64, mut b: f64, tol: f64, f: impl Fn(f64) -> f64) -> (f64, f64) {
+    let g = 0.5 * (5f64.sqrt() - 1.0);
+    let mut c = b - g * (b - a);
+    let mut d = a + g * (b - a);
+    let (mut fc, mut fd) = (f(c), f(d));
+    while (b - a) > tol * b.abs().max(1e-300) {
+        if fc > fd {
+            b = d;
+            d = c;
+            fd = fc;
+            c = b - g * (b - a);
+            fc = f(c);
+        } else {
+            a = c;
+            c = d;
+            fc = fd;
+            d = a + g * (b - a);
+            fd = f(d);
+        }
+    }
+    if fc > fd { (c, fc) } else { (d, fd) }
+}
+
+/// Local maxima of `values` over the grid `freq_hz`, each refined by golden-section search of
+/// `eval` between its grid neighbours: (frequency in Hz, value), by ascending frequency.
+pub fn refined_peaks(
+    freq_hz: &[f64],
+    values: &[f64],
+    eval: impl Fn(f64) -> f64,
+) -> Vec<(f64, f64)> {
+    let n = values.len();
+    let mut peaks = Vec::new();
+    for i in 0..n {
+        let left = if i > 0 {
+            values[i - 1]
+        } else {
+            f64::NEG_INFINITY
+        };
+        let right = if i + 1 < n {
+            values[i + 1]
+        } else {
+            f64::NEG_INFINITY
+        };
+        if values[i] >= left && values[i] > right {
+            if i == 0 || i + 1 == n {
+                peaks.push((freq_hz[i], values[i]));
+            } else {
+                let (f, v) = golden_max(freq_hz[i - 1], freq_hz[i + 1], 1e-9, &eval);
+                peaks.push(if v >= values[i] {
+                    (f, v)
+                } else {
+                    (freq_hz[i], values[i])
+                });
+            }
+        }
+    }
+    peaks
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn golden_section_finds_a_parabola_top() {
+        let (x, y) = golden_max(0.0, 3.0, 1e-10, |x| -(x - 1.3f64).powi(2) + 2.0);
+        assert!((x - 1.3).abs() < 1e-6 && (y - 2.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn grid_resolves_half_power_bandwidth() {
+        let f = frequency_grid([50.0, 200.0], &[123.4], 0.01);
+        assert!(f.contains(&123.4));
+        let worst = f.windows(2).map(|w| w[1] / w[0] - 1.0).fold(0.0, f64::max);
+        assert!(worst <= 0.005 + 1e-12, "{worst}");
+    }
+}

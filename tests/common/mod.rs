@@ -1,0 +1,66 @@
+//! Helpers shared by the reference tests.
+#![allow(dead_code)]
+
+use antinode::mesh::{Structure, parse_model, validate};
+use antinode::solver::{
+    AssemblyOptions, EigenParams, Method, ModalSolution, ModeRequest, System, assemble, solve_modes,
+};
+
+/// Parses and validates model JSON; panics with the error (test input is ours).
+pub fn structure(json: &str) -> Structure {
+    let model =
+        parse_model(json, std::path::Path::new("test.json")).unwrap_or_else(|e| panic!("{e}"));
+    validate(&model).unwrap_or_else(|e| panic!("{e}"))
+}
+
+/// Assembles without absorbers.
+pub fn system(s: &Structure) -> System {
+    assemble(s, AssemblyOptions::default()).unwrap_or_else(|e| panic!("{e}"))
+}
+
+/// The lowest `n` modes by the sparse (Lanczos) route.
+pub fn lowest(s: &Structure, n: usize) -> (System, ModalSolution) {
+    let sys = system(s);
+    let params = EigenParams {
+        method: Method::Lanczos,
+        ..EigenParams::default()
+    };
+    let sol = solve_modes(&sys, ModeRequest::Lowest(n), &params).unwrap_or_else(|e| panic!("{e}"));
+    (sys, sol)
+}
+
+/// Relative difference |a − b| / |b|.
+pub fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
+/// Asserts |a − b| ≤ tol·|b| with a message.
+#[track_caller]
+pub fn assert_rel(a: f64, b: f64, tol: f64, what: &str) {
+    assert!(
+        rel(a, b) <= tol,
+        "{what}: got {a}, expected {b} (relative error {:.3e} > {tol:.1e})",
+        rel(a, b)
+    );
+}
+
+/// A straight beam model along X with the given section JSON and supports JSON.
+pub fn beam_model(
+    section: &str,
+    elements: usize,
+    length: f64,
+    supports: &str,
+    material: &str,
+) -> String {
+    format!(
+        r#"{{
+  "materials": {{"m": {material}}},
+  "sections": {{"s": {section}}},
+  "lines": [{{"name": "beam", "from": [0, 0, 0], "to": [{length}, 0, 0], "elements": {elements}, "section": "s", "material": "m"}}],
+  "supports": {supports}
+}}"#
+    )
+}
+
+/// Steel of the reference sheet's worked examples.
+pub const STEEL: &str = r#"{"youngs_modulus": 2.1e11, "poisson_ratio": 0.3, "density": 7850}"#;
