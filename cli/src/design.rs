@@ -2,16 +2,14 @@
 
 use std::path::{Path, PathBuf};
 
-use antinode_mesh::{Absorber, Location, validate, write_vtu};
+use antinode_mesh::{Absorber, Location, validate};
 use antinode_placement::{DesignedAbsorber, StudyModel, design};
 use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::modes::mode_fields;
 use crate::output::{LocationOut, db, direction_json, print_json, table};
-use crate::pipeline::{
-    CAUTION, Progress, assemble_checked, load, out_dir, study_modes, write_file,
-};
+use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
 use crate::plot::{Series, frf_svg};
 use crate::respond::{curves_csv, magnitude_points};
 
@@ -82,7 +80,8 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let (system, _) = assemble_checked(&l, false)?;
     let modes = study_modes(&l, &system, &progress)?;
     progress.stage("screening and ranking candidates");
-    let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)?;
+    let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
+        .with_context(|| format!("in {}", path.display()))?;
     let d = design(&sm, &spec, &l.structure)
         .with_context(|| format!("design for {}", path.display()))?;
     progress.stage("writing files");
@@ -107,12 +106,12 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     }
     let designed =
         validate(&model).context("the designed model does not validate (please report this)")?;
-    let dir = out_dir(path, out.as_deref())?;
-    let model_path = dir.join("design.json");
-    let result_path = dir.join("design-result.json");
-    let svg_path = dir.join("frf.svg");
-    let csv_path = dir.join("design.csv");
-    let vtu_path = dir.join("design.vtu");
+    let mut outputs = Outputs::create(path, out.as_deref())?;
+    let model_path = outputs.path("design.json");
+    let result_path = outputs.path("design-result.json");
+    let svg_path = outputs.path("frf.svg");
+    let csv_path = outputs.path("design.csv");
+    let vtu_path = outputs.path("design.vtu");
     let mut all = sm.existing.clone();
     let new_links: Vec<antinode_solver::AbsorberLink> = d
         .absorbers
@@ -210,20 +209,21 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         caution: CAUTION,
     };
     let fields = mode_fields(&system, &modes);
-    write_vtu(&vtu_path, &designed, &fields, &[])?;
-    write_file(
-        &csv_path,
+    outputs.write_vtu("design.vtu", &designed, &fields)?;
+    outputs.write(
+        "design.csv",
         curves_csv(&sm, &before, Some(&after), &names[..]).as_bytes(),
     )?;
-    write_file(&svg_path, svg.as_bytes())?;
-    write_file(
-        &model_path,
+    outputs.write("frf.svg", svg.as_bytes())?;
+    outputs.write(
+        "design.json",
         serde_json::to_string_pretty(&model)?.as_bytes(),
     )?;
-    write_file(
-        &result_path,
+    outputs.write(
+        "design-result.json",
         serde_json::to_string_pretty(&report)?.as_bytes(),
     )?;
+    outputs.commit()?;
     drop(progress);
     if json {
         return print_json(&report);

@@ -4,7 +4,7 @@
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
-use antinode_mesh::{NodalVectors, write_vtu};
+use antinode_mesh::NodalVectors;
 use antinode_solver::{
     EigenParams, ModalSolution, ModeRequest, SolveStats, SturmCheck, System, participation,
     solve_modes,
@@ -13,7 +13,7 @@ use anyhow::{Context, Result};
 use serde::Serialize;
 
 use crate::output::{Xyz, print_json, table};
-use crate::pipeline::{CAUTION, Progress, assemble_checked, load, out_dir, write_file};
+use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, confirm_zero_energy, load};
 
 pub struct Options {
     pub model: PathBuf,
@@ -99,6 +99,7 @@ pub fn run(o: &Options) -> Result<()> {
     let params = EigenParams::default();
     let sol = solve_modes(&system, request, &params)
         .with_context(|| format!("modes of {}", o.model.display()))?;
+    confirm_zero_energy(&l, &system, &sol)?;
     progress.stage("writing files");
     let s = &l.structure;
     let total = s.total_mass()
@@ -125,10 +126,10 @@ pub fn run(o: &Options) -> Result<()> {
             zero_energy: i < sol.n_zero_energy,
         });
     }
-    let dir = out_dir(&o.model, o.out.as_deref())?;
-    let json_path = dir.join("modes.json");
-    let csv_path = dir.join("modes.csv");
-    let vtu_path = dir.join("modes.vtu");
+    let mut outputs = Outputs::create(&o.model, o.out.as_deref())?;
+    let json_path = outputs.path("modes.json");
+    let csv_path = outputs.path("modes.csv");
+    let vtu_path = outputs.path("modes.vtu");
     let report = ModesReport {
         model: o.model.display().to_string(),
         title: s.title.clone(),
@@ -169,12 +170,13 @@ pub fn run(o: &Options) -> Result<()> {
         );
     }
     let fields = mode_fields(&system, &sol);
-    write_vtu(&vtu_path, s, &fields, &[])?;
-    write_file(&csv_path, csv.as_bytes())?;
-    write_file(
-        &json_path,
+    outputs.write_vtu("modes.vtu", s, &fields)?;
+    outputs.write("modes.csv", csv.as_bytes())?;
+    outputs.write(
+        "modes.json",
         serde_json::to_string_pretty(&report)?.as_bytes(),
     )?;
+    outputs.commit()?;
     drop(progress);
     if o.json {
         return print_json(&report);

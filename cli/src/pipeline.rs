@@ -4,7 +4,7 @@
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 
-use antinode_mesh::{Model, Structure, load_model, validate};
+use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate};
 use antinode_solver::{
     AssemblyOptions, EigenParams, ModalSolution, ModeRequest, System, assemble, check_zero_energy,
     solve_modes,
@@ -43,6 +43,12 @@ pub fn assemble_checked(l: &Loaded, include_absorbers: bool) -> Result<(System, 
     Ok((system, zero))
 }
 
+/// Fails when `sol` holds more zero-frequency modes than the supports allow.
+pub fn confirm_zero_energy(l: &Loaded, system: &System, sol: &ModalSolution) -> Result<()> {
+    antinode_solver::confirm_zero_energy(&l.structure, system, sol)
+        .with_context(|| format!("in {}", l.path.display()))
+}
+
 /// Modes for the study: every mode up to the study's `max_mode_frequency_hz`.
 pub fn study_modes(l: &Loaded, system: &System, progress: &Progress) -> Result<ModalSolution> {
     let Some(study) = &l.structure.study else {
@@ -64,24 +70,120 @@ pub fn study_modes(l: &Loaded, system: &System, progress: &Progress) -> Result<M
         &EigenParams::default(),
     )
     .with_context(|| format!("modes of {}", l.path.display()))?;
+    confirm_zero_energy(l, system, &sol)?;
     Ok(sol)
 }
 
-/// The output folder: `out` if given, else `out/<model file stem>`; created if missing.
-pub fn out_dir(model: &Path, out: Option<&Path>) -> Result<PathBuf> {
-    let dir = match out {
-        Some(d) => d.to_path_buf(),
-        None => {
-            let stem = model
-                .file_stem()
-                .map(|s| s.to_string_lossy().into_owned())
-                .unwrap_or_else(|| "model".into());
-            PathBuf::from("out").join(stem)
+/// The output files of one command, made all or nothing.
+///
+/// Each file is first written in full under a hidden staging name in the output folder; only
+/// [`Outputs::commit`], once every file is ready, renames them to their real names. If the command
+/// fails before that, dropping the value removes what this run wrote, and the folders it created if
+/// they are empty, so an error leaves no partial set of outputs behind and earlier results are kept
+/// as they were. (Should a rename fail, the files already renamed are removed too.)
+pub struct Outputs {
+    dir: PathBuf,
+    /// Folders this run created, deepest first.
+    created: Vec<PathBuf>,
+    /// (staging name, real name) of each file written.
+    staged: Vec<(PathBuf, PathBuf)>,
+    /// Real names already renamed into place.
+    placed: Vec<PathBuf>,
+    committed: bool,
+}
+
+impl Outputs {
+    /// The output folder `out` if given, else `out/<model file stem>`; created if missing.
+    pub fn create(model: &Path, out: Option<&Path>) -> Result<Self> {
+        let dir = match out {
+            Some(d) => d.to_path_buf(),
+            None => {
+                let stem = model
+                    .file_stem()
+                    .map(|s| s.to_string_lossy().into_owned())
+                    .unwrap_or_else(|| "model".into());
+                PathBuf::from("out").join(stem)
+            }
+        };
+        let created: Vec<PathBuf> = dir
+            .ancestors()
+            .take_while(|a| !a.as_os_str().is_empty() && !a.exists())
+            .map(Path::to_path_buf)
+            .collect();
+        let outputs = Self {
+            dir,
+            created,
+            staged: Vec::new(),
+            placed: Vec::new(),
+            committed: false,
+        };
+        std::fs::create_dir_all(&outputs.dir)
+            .with_context(|| format!("cannot create output folder {}", outputs.dir.display()))?;
+        Ok(outputs)
+    }
+
+    /// Where the file `name` will be.
+    pub fn path(&self, name: &str) -> PathBuf {
+        self.dir.join(name)
+    }
+
+    /// A staging name for `name`, hidden, in the output folder (so the rename stays on one disk).
+    fn stage(&mut self, name: &str) -> PathBuf {
+        let staging = self
+            .dir
+            .join(format!(".{name}.{}.staged", std::process::id()));
+        self.staged.push((staging.clone(), self.path(name)));
+        staging
+    }
+
+    /// Writes the file `name`, to be put in place by [`Outputs::commit`].
+    pub fn write(&mut self, name: &str, bytes: &[u8]) -> Result<()> {
+        let staging = self.stage(name);
+        antinode_mesh::write_atomic(&staging, bytes)
+            .with_context(|| format!("cannot write {}", self.path(name).display()))
+    }
+
+    /// Writes the VTK file `name` of `structure` with point vectors `fields`.
+    pub fn write_vtu(
+        &mut self,
+        name: &str,
+        structure: &Structure,
+        fields: &[NodalVectors],
+    ) -> Result<()> {
+        let staging = self.stage(name);
+        antinode_mesh::write_vtu(&staging, structure, fields, &[])
+            .with_context(|| format!("cannot write {}", self.path(name).display()))
+    }
+
+    /// Renames every written file to its real name.
+    pub fn commit(mut self) -> Result<()> {
+        // On a failed rename, dropping `self` removes the rest.
+        for (staging, real) in &self.staged {
+            std::fs::rename(staging, real)
+                .with_context(|| format!("cannot write {}", real.display()))?;
+            self.placed.push(real.clone());
         }
-    };
-    std::fs::create_dir_all(&dir)
-        .with_context(|| format!("cannot create output folder {}", dir.display()))?;
-    Ok(dir)
+        self.committed = true;
+        Ok(())
+    }
+}
+
+impl Drop for Outputs {
+    fn drop(&mut self) {
+        if self.committed {
+            return;
+        }
+        for (staging, _) in &self.staged {
+            let _ = std::fs::remove_file(staging);
+        }
+        for real in &self.placed {
+            let _ = std::fs::remove_file(real);
+        }
+        // Only empty folders go; anything else in them stays.
+        for dir in &self.created {
+            let _ = std::fs::remove_dir(dir);
+        }
+    }
 }
 
 /// A spinner on standard error for long steps (hidden when standard error is not a terminal).
@@ -109,12 +211,6 @@ impl Drop for Progress {
     fn drop(&mut self) {
         self.0.finish_and_clear();
     }
-}
-
-/// Writes bytes atomically, naming the file on failure.
-pub fn write_file(path: &Path, bytes: &[u8]) -> Result<()> {
-    antinode_mesh::write_atomic(path, bytes)
-        .with_context(|| format!("cannot write {}", path.display()))
 }
 
 /// The caution printed with results that engineers may act on.

@@ -5,13 +5,11 @@ use std::path::{Path, PathBuf};
 
 use antinode_placement::{Curves, StudyModel};
 use antinode_solver::{AbsorberLink, refined_peaks};
-use anyhow::{Result, bail};
+use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::output::{print_json, table};
-use crate::pipeline::{
-    CAUTION, Progress, assemble_checked, load, out_dir, study_modes, write_file,
-};
+use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
 use crate::plot::{Series, frf_svg};
 
 #[derive(Serialize)]
@@ -137,7 +135,8 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let (system, _) = assemble_checked(&l, false)?;
     let modes = study_modes(&l, &system, &progress)?;
     progress.stage("response");
-    let sm = StudyModel::build(&l.structure, &system, &modes, &study, false)?;
+    let sm = StudyModel::build(&l.structure, &system, &modes, &study, false)
+        .with_context(|| format!("in {}", path.display()))?;
     let before = sm.curves(&sm.grid_hz, &[]);
     let has_absorbers = !sm.existing.is_empty();
     let after = has_absorbers.then(|| sm.curves(&sm.grid_hz, &sm.existing));
@@ -147,10 +146,10 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         .iter()
         .map(|a| a.name.clone())
         .collect();
-    let dir = out_dir(path, out.as_deref())?;
-    let csv_path = dir.join("response.csv");
-    let svg_path = dir.join("frf.svg");
-    let json_path = dir.join("response.json");
+    let mut outputs = Outputs::create(path, out.as_deref())?;
+    let csv_path = outputs.path("response.csv");
+    let svg_path = outputs.path("frf.svg");
+    let json_path = outputs.path("response.json");
     let pb = magnitude_points(&before);
     let pa = after.as_ref().map(magnitude_points);
     let mut series = Vec::new();
@@ -224,15 +223,16 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
             .map(|p| p.display().to_string())
             .collect(),
     };
-    write_file(
-        &csv_path,
+    outputs.write(
+        "response.csv",
         curves_csv(&sm, &before, after.as_ref(), &names).as_bytes(),
     )?;
-    write_file(&svg_path, svg.as_bytes())?;
-    write_file(
-        &json_path,
+    outputs.write("frf.svg", svg.as_bytes())?;
+    outputs.write(
+        "response.json",
         serde_json::to_string_pretty(&report)?.as_bytes(),
     )?;
+    outputs.commit()?;
     drop(progress);
     if json {
         return print_json(&report);

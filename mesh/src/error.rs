@@ -16,7 +16,7 @@ pub enum ModelError {
         source: std::io::Error,
     },
     /// The JSON is malformed or does not have the model's shape.
-    #[error("{path}: at `{json_path}` (line {line}, column {column}): {message}")]
+    #[error("{path}: {}: {message}", json_place(.json_path, .line, .column))]
     Parse {
         /// The file.
         path: PathBuf,
@@ -42,15 +42,19 @@ pub enum ModelError {
         hint: String,
     },
     /// A node id that refers to nothing.
-    #[error("{at}: node {id} does not exist")]
+    #[error("{at}: node {id} does not exist; give the id of a defined node{hint}")]
     UnknownNode {
         /// JSON path of the reference.
         at: String,
         /// The id given.
         id: u64,
+        /// The ids that exist, in words, e.g. ` (defined: 1 to 49)`.
+        hint: String,
     },
     /// Two items with one id or name.
-    #[error("{at}: {kind} {id} is defined twice (first at {first})")]
+    #[error(
+        "{at}: {kind} {id} is defined twice (first at {first}); give each {kind} its own {key}"
+    )]
     Duplicate {
         /// JSON path of the second definition.
         at: String,
@@ -60,6 +64,8 @@ pub enum ModelError {
         id: String,
         /// JSON path of the first definition.
         first: String,
+        /// What must be unique: `id` or `name`.
+        key: &'static str,
     },
     /// A number outside its allowed range.
     #[error("{at}: {field} = {value} is not allowed; it must be {allowed}")]
@@ -74,9 +80,12 @@ pub enum ModelError {
         allowed: String,
     },
     /// A beam whose two nodes coincide.
-    #[error("{element}: its two nodes {a} and {b} are at the same place (zero length)")]
+    #[error(
+        "{element}: its two nodes {a} and {b} are at the same place, so the beam has zero length; \
+         a beam needs two nodes at different places"
+    )]
     ZeroLength {
-        /// The element.
+        /// The element: JSON path and label.
         element: String,
         /// First node id.
         a: u64,
@@ -88,14 +97,15 @@ pub enum ModelError {
         "{element}: the orientation vector {vector:?} is parallel to the beam axis; give a vector across the beam"
     )]
     OrientationParallel {
-        /// The element.
+        /// The element: JSON path and label.
         element: String,
         /// The vector given.
         vector: [f64; 3],
     },
     /// Coordinates that snap to no node.
     #[error(
-        "{at}: no node lies within {tolerance:.3e} m of {xyz:?}; the nearest (node {nearest}) is {distance:.3e} m away"
+        "{at}: no node lies within {tolerance:.3e} m of {xyz:?}; the nearest (node {nearest}) is \
+         {distance:.3e} m away; give coordinates within the tolerance of a node, or a larger \"tolerance\" (m)"
     )]
     NoNodeNear {
         /// JSON path of the location.
@@ -110,7 +120,10 @@ pub enum ModelError {
         tolerance: f64,
     },
     /// A model without any mass.
-    #[error("the model has no mass: give materials a positive density, or add point masses")]
+    #[error(
+        "the model has no mass: its total mass is 0 kg and it must be positive; add beams of a material \
+         with a positive density, or point_masses"
+    )]
     NoMass,
     /// Anything else that is wrong with an item, said in words.
     #[error("{at}: {message}")]
@@ -128,4 +141,14 @@ pub enum ModelError {
         /// What failed.
         message: String,
     },
+}
+
+/// Where a parse error is, for its message: `` at `path` (line L, column C) ``, or only the line and
+/// column when serde could not tell the JSON path (a syntax error, an early end of the file).
+fn json_place(json_path: &str, line: &usize, column: &usize) -> String {
+    if json_path.is_empty() || json_path == "?" || json_path == "." {
+        format!("line {line}, column {column}")
+    } else {
+        format!("at `{json_path}` (line {line}, column {column})")
+    }
 }

@@ -242,6 +242,7 @@ impl<'a> Builder<'a> {
                     kind: "node",
                     id: n.id.to_string(),
                     first: first.clone(),
+                    key: "id",
                 });
             }
             self.node_path.insert(n.id, at);
@@ -253,6 +254,39 @@ impl<'a> Builder<'a> {
             });
         }
         Ok(())
+    }
+
+    /// The node ids defined so far, as runs, for messages: ` (defined: 1 to 49, 60)`.
+    fn node_ids_hint(&self) -> String {
+        let mut ids: Vec<u64> = self.nodes.iter().map(|n| n.id.0).collect();
+        if ids.is_empty() {
+            return " (the model defines no node)".into();
+        }
+        ids.sort_unstable();
+        ids.dedup();
+        let mut runs: Vec<(u64, u64)> = Vec::new();
+        for id in ids {
+            match runs.last_mut() {
+                Some((_, last)) if *last + 1 == id => *last = id,
+                _ => runs.push((id, id)),
+            }
+        }
+        const SHOWN: usize = 8;
+        let mut parts: Vec<String> = runs
+            .iter()
+            .take(SHOWN)
+            .map(|&(a, b)| {
+                if a == b {
+                    a.to_string()
+                } else {
+                    format!("{a} to {b}")
+                }
+            })
+            .collect();
+        if runs.len() > SHOWN {
+            parts.push("...".into());
+        }
+        format!(" (defined: {})", parts.join(", "))
     }
 
     fn material(&self, at: &str, name: &str) -> Result<MaterialProperties, ModelError> {
@@ -331,7 +365,11 @@ impl<'a> Builder<'a> {
         let (a, b) = (self.nodes[nodes[0]].xyz, self.nodes[nodes[1]].xyz);
         if distance(a, b) <= self.grid.tolerance {
             return Err(ModelError::ZeroLength {
-                element: label,
+                element: if line.is_some() {
+                    format!("{at} ({label})")
+                } else {
+                    format!("{at}.nodes ({label})")
+                },
                 a: self.nodes[nodes[0]].id.0,
                 b: self.nodes[nodes[1]].id.0,
             });
@@ -339,7 +377,8 @@ impl<'a> Builder<'a> {
         if let Some(v) = orientation {
             check_point(&format!("{at}.orientation"), v)?;
         }
-        let orientation = self.orientation(&label, a, b, orientation)?;
+        let orientation =
+            self.orientation(&format!("{at}.orientation ({label})"), a, b, orientation)?;
         Ok(BeamElement {
             id,
             label,
@@ -383,6 +422,7 @@ impl<'a> Builder<'a> {
                     kind: "line",
                     id: format!("\"{}\"", l.name),
                     first: format!("lines[{first}]"),
+                    key: "name",
                 });
             }
             if l.elements == 0 {
@@ -463,18 +503,21 @@ impl<'a> Builder<'a> {
                     kind: "beam",
                     id: b.id.to_string(),
                     first: format!("beams[{first}]"),
+                    key: "id",
                 });
             }
             seen.insert(b.id, i);
             let mut nodes = [0usize; 2];
             for k in 0..2 {
-                nodes[k] = *self
-                    .node_index
-                    .get(&b.nodes[k])
-                    .ok_or(ModelError::UnknownNode {
-                        at: format!("{at}.nodes[{k}]"),
-                        id: b.nodes[k].0,
-                    })?;
+                nodes[k] =
+                    *self
+                        .node_index
+                        .get(&b.nodes[k])
+                        .ok_or_else(|| ModelError::UnknownNode {
+                            at: format!("{at}.nodes[{k}]"),
+                            id: b.nodes[k].0,
+                            hint: self.node_ids_hint(),
+                        })?;
             }
             let e = self.beam_element(BeamSource {
                 id: b.id,
@@ -518,9 +561,10 @@ impl<'a> Builder<'a> {
                 .node_index
                 .get(&id)
                 .copied()
-                .ok_or(ModelError::UnknownNode {
+                .ok_or_else(|| ModelError::UnknownNode {
                     at: format!("{at}.node"),
                     id: id.0,
+                    hint: self.node_ids_hint(),
                 });
         }
         if let Some(p) = loc.xyz {

@@ -26,7 +26,9 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use crate::error::PlacementError;
-use crate::study::{Candidate, Peak, StudyModel};
+use antinode_solver::resonance_peak;
+
+use crate::study::{Candidate, GridTable, Peak, StudyModel};
 use crate::tuning::{Tuning, den_hartog_brock, warburton_random_force};
 
 /// Auto targets: modes whose modal peak is at least this share of the largest (2 %).
@@ -34,6 +36,10 @@ pub const AUTO_TARGET_SHARE: f64 = 0.02;
 
 /// Rows kept in each ranking table.
 const RANKING_ROWS: usize = 10;
+
+/// Candidates scored on the coupled model for each absorber: those with the largest mass ratio per
+/// kilogram on its target mode.
+const PRESCREEN: usize = 48;
 
 /// A target mode.
 #[derive(Debug, Clone, Serialize)]
@@ -132,6 +138,18 @@ pub struct Design {
     pub rms_before: f64,
     /// Band RMS after, in m/N.
     pub rms_after: f64,
+    /// Refinement: Nelder–Mead iterations, and the objective after relative to the closed-form
+    /// start (below 1 when refinement improved on the rules).
+    pub refinement: RefinementInfo,
+}
+
+/// What the joint refinement did.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct RefinementInfo {
+    /// Nelder–Mead iterations.
+    pub iterations: u64,
+    /// Objective after refinement divided by the objective of the closed-form start values.
+    pub objective_ratio: f64,
 }
 
 fn rule(objective: Objective) -> (&'static str, fn(f64) -> Tuning) {
@@ -163,7 +181,7 @@ pub fn design(
     let (rule_name, tune) = rule(objective);
     let window_value = |lo: f64, hi: f64, links: &[AbsorberLink]| -> f64 {
         match objective {
-            Objective::Peak => sm.peak(lo, hi, links).receptance,
+            Objective::Peak => sm.peak_estimate(lo, hi, links),
             Objective::Rms => sm.rms(lo, hi, links),
         }
     };
@@ -209,6 +227,17 @@ pub fn design(
                 spec.min_spacing
             )));
         }
+        // Prescreen: only the candidates with the largest mass ratio per kilogram can be best (the
+        // attainable reduction grows with μ); the others are not scored on the coupled model.
+        let mut eligible = eligible;
+        eligible.sort_by(|&a, &b| {
+            let (pa, pb) = (
+                sm.model.coupling(sm.candidates[a].coord, r).powi(2),
+                sm.model.coupling(sm.candidates[b].coord, r).powi(2),
+            );
+            pb.total_cmp(&pa).then(a.cmp(&b))
+        });
+        eligible.truncate(PRESCREEN);
         let mut rows: Vec<(usize, RankedCandidate, AbsorberLink)> = eligible
             .par_iter()
             .map(|&ci| {
@@ -251,7 +280,7 @@ pub fn design(
     }
     let n_existing = sm.existing.len();
     let start: Vec<AbsorberLink> = links[n_existing..].to_vec();
-    let refined = refine(sm, &targets, objective, &links[..n_existing], &start)?;
+    let (refined, refinement) = refine(sm, &targets, objective, &links[..n_existing], &start)?;
     let mut all = sm.existing.clone();
     all.extend(refined.iter().copied());
     let before = sm.peak(band[0], band[1], &sm.existing);
@@ -307,6 +336,7 @@ pub fn design(
         after,
         rms_before,
         rms_after,
+        refinement,
     })
 }
 
@@ -400,6 +430,10 @@ struct Refinement<'a> {
     objective: Objective,
     fixed: &'a [AbsorberLink],
     start: &'a [AbsorberLink],
+    /// Receptances among all attachments (fixed, then new) on the grid.
+    table: GridTable,
+    /// Objective of the start point (the cost is relative to it).
+    scale: f64,
 }
 
 impl Refinement<'_> {
@@ -428,22 +462,75 @@ impl Refinement<'_> {
             .collect()
     }
 
+    /// Peaks of the largest response over [lo, hi] for each window `(lo, hi)`: the grid maximum in
+    /// the window, or higher where one of its two highest local maxima, refined by a resonance fit
+    /// through its grid neighbours ([`resonance_peak`]), rises above it. Each local maximum is
+    /// refined once for all the windows that hold it.
+    fn window_peaks(&self, values: &[f64], windows: &[[f64; 2]]) -> Vec<f64> {
+        let g = &self.sm.grid_hz;
+        let mut refine: Vec<usize> = Vec::new();
+        let mut grid_max = Vec::with_capacity(windows.len());
+        for &[lo, hi] in windows {
+            let idx: Vec<usize> = (0..g.len()).filter(|&i| g[i] >= lo && g[i] <= hi).collect();
+            grid_max.push(idx.iter().map(|&i| values[i]).fold(0.0, f64::max));
+            let mut maxima: Vec<usize> = idx
+                .into_iter()
+                .filter(|&i| {
+                    i > 0
+                        && i + 1 < g.len()
+                        && values[i] >= values[i - 1]
+                        && values[i] >= values[i + 1]
+                })
+                .collect();
+            maxima.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));
+            refine.extend(maxima.into_iter().take(2));
+        }
+        refine.sort_unstable();
+        refine.dedup();
+        let refined: Vec<(f64, f64)> = refine
+            .iter()
+            .map(|&i| {
+                resonance_peak(
+                    [g[i - 1], g[i], g[i + 1]],
+                    [values[i - 1], values[i], values[i + 1]],
+                )
+            })
+            .collect();
+        windows
+            .iter()
+            .zip(grid_max)
+            .map(|(&[lo, hi], m)| {
+                refined
+                    .iter()
+                    .filter(|&&(f, _)| f >= lo && f <= hi)
+                    .map(|&(_, v)| v)
+                    .fold(m, f64::max)
+            })
+            .collect()
+    }
+
+    /// The objective (m/N) of new absorbers `links`.
     fn value(&self, links: &[AbsorberLink]) -> f64 {
         let mut all = self.fixed.to_vec();
         all.extend_from_slice(links);
-        let [blo, bhi] = self.sm.band_hz;
+        let values: Vec<f64> = (0..self.sm.grid_hz.len())
+            .into_par_iter()
+            .map(|i| self.sm.table_response(&self.table, i, &all))
+            .collect();
         match self.objective {
-            Objective::Rms => self.sm.rms(blo, bhi, &all),
-            Objective::Peak => {
-                let mut s = self.sm.peak(blo, bhi, &all).receptance.powi(8);
-                for t in self.targets {
-                    s += self
-                        .sm
-                        .peak(t.window_hz[0], t.window_hz[1], &all)
-                        .receptance
-                        .powi(8);
+            Objective::Rms => {
+                let g = &self.sm.grid_hz;
+                let mut s = 0.0;
+                for i in 1..g.len() {
+                    s += 0.5 * (values[i].powi(2) + values[i - 1].powi(2)) * (g[i] - g[i - 1]);
                 }
-                s.powf(1.0 / 8.0)
+                (s / (g[g.len() - 1] - g[0])).sqrt()
+            }
+            Objective::Peak => {
+                let mut windows = vec![self.sm.band_hz];
+                windows.extend(self.targets.iter().map(|t| t.window_hz));
+                let peaks = self.window_peaks(&values, &windows);
+                peaks.iter().map(|p| p.powi(8)).sum::<f64>().powf(1.0 / 8.0)
             }
         }
     }
@@ -459,7 +546,8 @@ impl CostFunction for Refinement<'_> {
             let span = if i % 2 == 0 { 2f64.ln() } else { 5f64.ln() };
             (v - v0).abs() <= span
         });
-        let v = self.value(&self.links(x));
+        // Relative to the start value, so that the simplex tolerance is relative.
+        let v = self.value(&self.links(x)) / self.scale;
         Ok(if inside { v } else { 1e3 * v })
     }
 }
@@ -470,15 +558,20 @@ fn refine(
     objective: Objective,
     fixed: &[AbsorberLink],
     start: &[AbsorberLink],
-) -> Result<Vec<AbsorberLink>, PlacementError> {
-    let problem = Refinement {
+) -> Result<(Vec<AbsorberLink>, RefinementInfo), PlacementError> {
+    let coords: Vec<usize> = fixed.iter().chain(start).map(|l| l.coord).collect();
+    let mut problem = Refinement {
         sm,
         targets,
         objective,
         fixed,
         start,
+        table: sm.table(&coords),
+        scale: 1.0,
     };
     let x0 = problem.start_point();
+    problem.scale = problem.value(&problem.links(&x0));
+    let v0 = 1.0;
     let dim = x0.len();
     let mut simplex = vec![x0.clone()];
     for i in 0..dim {
@@ -487,7 +580,7 @@ fn refine(
         simplex.push(v);
     }
     let solver = NelderMead::new(simplex)
-        .with_sd_tolerance(1e-9)
+        .with_sd_tolerance(1e-6)
         .map_err(|e| PlacementError::Design(format!("refinement setup: {e}")))?;
     let result = Executor::new(problem, solver)
         .configure(|s| s.max_iters(80 * dim as u64))
@@ -498,17 +591,15 @@ fn refine(
         .get_best_param()
         .cloned()
         .unwrap_or(x0.clone());
-    let problem = Refinement {
-        sm,
-        targets,
-        objective,
-        fixed,
-        start,
+    let v1 = result.state().get_best_cost();
+    let info = RefinementInfo {
+        iterations: result.state().get_iter(),
+        objective_ratio: v1.min(v0),
     };
+    let problem = result
+        .problem
+        .problem
+        .ok_or_else(|| PlacementError::Design("refinement lost its problem".into()))?;
     // Keep the rule's values if refinement did not improve (it never should make things worse).
-    let (v0, v1) = (
-        problem.value(&problem.links(&x0)),
-        problem.value(&problem.links(&best)),
-    );
-    Ok(problem.links(if v1 <= v0 { &best } else { &x0 }))
+    Ok((problem.links(if v1 <= v0 { &best } else { &x0 }), info))
 }

@@ -19,4 +19,4 @@ pub use design::{
     AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, Slot, TargetMode, design,
 };
 pub use error::PlacementError;
-pub use study::{Candidate, Curves, Peak, StudyModel, link_of};
+pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, link_of};

@@ -34,25 +34,55 @@ pub struct System {
     pub(crate) factorizer: Factorizer,
     pub(crate) node_xyz: Vec<[f64; 3]>,
     pub(crate) absorber_directions: Vec<[f64; 3]>,
+    /// Inertia load of a unit rigid translation of everything, supports included, along X, Y, Z:
+    /// b_d = (M_full r_d) restricted to the free DOFs = M_ff r_f + M_fs r_s (n × 3).
+    pub(crate) base_inertia: Mat<f64>,
 }
 
 /// One element's contribution: its DOFs (free index or `None`) and row-major K and M blocks.
 struct Block {
     label: String,
     dofs: Vec<Option<usize>>,
+    /// Displacement of each block DOF under a unit rigid translation along X, Y, Z (fixed DOFs
+    /// included: supports move with the base).
+    rigid: Vec<[f64; 3]>,
     k: Vec<f64>,
     m: Vec<f64>,
 }
 
+/// Unit rigid translation of the six DOFs of a node.
+fn node_rigid() -> [[f64; 3]; 6] {
+    [
+        [1.0, 0.0, 0.0],
+        [0.0, 1.0, 0.0],
+        [0.0, 0.0, 1.0],
+        [0.0; 3],
+        [0.0; 3],
+        [0.0; 3],
+    ]
+}
+
 impl Block {
-    fn new(label: String, dofs: Vec<Option<usize>>) -> Self {
+    fn new(label: String, dofs: Vec<Option<usize>>, rigid: Vec<[f64; 3]>) -> Self {
         let n = dofs.len();
         Self {
             label,
             dofs,
+            rigid,
             k: vec![0.0; n * n],
             m: vec![0.0; n * n],
         }
+    }
+
+    /// A block over the six DOFs of each of `nodes`.
+    fn on_nodes(label: String, dofs: &DofMap, nodes: &[usize]) -> Self {
+        let mut d = Vec::with_capacity(6 * nodes.len());
+        let mut r = Vec::with_capacity(6 * nodes.len());
+        for &n in nodes {
+            d.extend(dofs.node_dofs(n));
+            r.extend(node_rigid());
+        }
+        Self::new(label, d, r)
     }
 }
 
@@ -70,10 +100,7 @@ fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
         &b.material,
         kind,
     );
-    let mut d = Vec::with_capacity(12);
-    d.extend(dofs.node_dofs(b.nodes[0]));
-    d.extend(dofs.node_dofs(b.nodes[1]));
-    let mut block = Block::new(b.label.clone(), d);
+    let mut block = Block::on_nodes(b.label.clone(), dofs, &b.nodes);
     for r in 0..12 {
         for c in 0..12 {
             block.k[12 * r + c] = k[r][c];
@@ -86,11 +113,12 @@ fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
 fn absorber_block(a: &AbsorberSpec, dofs: &DofMap, index: usize) -> Block {
     // Spring energy ½ k (z − eᵀu)²: K = k [e eᵀ, −e; −eᵀ, 1] on [ux, uy, uz, z]; mass m on z.
     let nd = dofs.node_dofs(a.node);
+    let e = a.direction.unit;
     let mut block = Block::new(
         format!("absorber \"{}\"", a.name),
         vec![nd[0], nd[1], nd[2], dofs.absorber_dof(index)],
+        vec![[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0], e],
     );
-    let e = a.direction.unit;
     let k = a.stiffness;
     for r in 0..3 {
         for c in 0..3 {
@@ -122,16 +150,14 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
     for sp in &s.springs {
         match sp.other {
             None => {
-                let mut b = Block::new(sp.label.clone(), dofs.node_dofs(sp.node).to_vec());
+                let mut b = Block::on_nodes(sp.label.clone(), &dofs, &[sp.node]);
                 for d in 0..6 {
                     b.k[6 * d + d] = sp.stiffness[d];
                 }
                 blocks.push(b);
             }
             Some(o) => {
-                let mut d = dofs.node_dofs(sp.node).to_vec();
-                d.extend(dofs.node_dofs(o));
-                let mut b = Block::new(sp.label.clone(), d);
+                let mut b = Block::on_nodes(sp.label.clone(), &dofs, &[sp.node, o]);
                 let k = link_stiffness(sp.stiffness);
                 for r in 0..12 {
                     for c in 0..12 {
@@ -143,10 +169,7 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         }
     }
     for (i, p) in s.point_masses.iter().enumerate() {
-        let mut b = Block::new(
-            format!("point_masses[{i}]"),
-            dofs.node_dofs(p.node).to_vec(),
-        );
+        let mut b = Block::on_nodes(format!("point_masses[{i}]"), &dofs, &[p.node]);
         let m = point_mass(p.mass, p.inertia);
         for d in 0..6 {
             b.m[6 * d + d] = m[d];
@@ -168,11 +191,15 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
     let mut pairs = Vec::new();
     let mut kv = Vec::new();
     let mut mv = Vec::new();
+    let mut base_inertia = Mat::<f64>::zeros(n, 3);
     for b in &blocks {
         let nb = b.dofs.len();
         for r in 0..nb {
             let Some(i) = b.dofs[r] else { continue };
             for c in 0..nb {
+                for d in 0..3 {
+                    base_inertia[(i, d)] += b.m[nb * r + c] * b.rigid[c][d];
+                }
                 let Some(j) = b.dofs[c] else { continue };
                 pairs.push(Pair { row: i, col: j });
                 kv.push(b.k[nb * r + c]);
@@ -212,6 +239,7 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         m,
         node_xyz: s.nodes.iter().map(|p| p.xyz).collect(),
         absorber_directions: s.absorbers.iter().map(|a| a.direction.unit).collect(),
+        base_inertia,
     };
     let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
     let massless: Vec<String> = (0..n)
@@ -241,6 +269,21 @@ impl System {
     /// Number of free DOFs.
     pub fn n_dofs(&self) -> usize {
         self.dofs.n_dofs()
+    }
+
+    /// M x for a vector over the free DOFs (e.g. for mass-weighted comparisons of modes), in N per
+    /// m/s² of x.
+    ///
+    /// # Panics
+    /// If `x.len()` is not the number of free DOFs.
+    pub fn mass_times(&self, x: &[f64]) -> Vec<f64> {
+        assert_eq!(
+            x.len(),
+            self.n_dofs(),
+            "vector length must be the number of free DOFs"
+        );
+        let y = self.mul_m(faer::ColRef::from_slice(x).as_mat());
+        (0..x.len()).map(|i| y[(i, 0)]).collect()
     }
 
     /// Number of stored entries of K (both triangles).

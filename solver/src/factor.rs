@@ -144,7 +144,7 @@ impl Factorizer {
         let marked = f
             .pivots()
             .into_iter()
-            .filter(|&(_, d)| d >= 0.5 * MARKED_PIVOT)
+            .filter(|&(_, d)| d.abs() >= 0.5 * MARKED_PIVOT)
             .map(|(dof, _)| dof)
             .collect();
         Ok((f, marked))

@@ -27,13 +27,13 @@ pub use assembly::{AssemblyOptions, System, assemble};
 pub use dofs::{DofMap, DofOwner};
 pub use eigen::{
     EigenParams, Method, ModalSolution, ModeRequest, SolveStats, SturmCheck, check_zero_energy,
-    participation, solve_modes,
+    confirm_zero_energy, participation, solve_modes,
 };
 pub use error::SolverError;
 pub use num_complex::Complex64;
 pub use response::{
-    AbsorberLink, Coordinate, CoupledResponse, Load, ModalModel, frequency_grid, golden_max,
-    refined_peaks,
+    AbsorberLink, Coordinate, CoupledResponse, Load, ModalModel, absorber_forces, frequency_grid,
+    golden_max, refined_peaks, resonance_peak,
 };
 pub use statics::solve_static;
 

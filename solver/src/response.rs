@@ -127,13 +127,22 @@ impl ModalModel {
     ) -> Result<Self, SolverError> {
         let nm = solution.n_modes();
         let nc = coords.len();
-        let n = system.n_dofs();
-        let e = coordinate_matrix(system, coords);
+        // Each coordinate touches at most three free DOFs: gather instead of dense products.
+        let taps: Vec<Vec<(usize, f64)>> = coords
+            .iter()
+            .map(|co| {
+                (0..3)
+                    .filter_map(|k| system.dofs.dof(co.node, k).map(|i| (i, co.direction[k])))
+                    .collect()
+            })
+            .collect();
+        let gather =
+            |col: &[f64], c: usize| -> f64 { taps[c].iter().map(|&(i, w)| w * col[i]).sum() };
         let mut phi = vec![0.0; nc * nm];
         for r in 0..nm {
             let shape = solution.shape(r);
             for c in 0..nc {
-                phi[c * nm + r] = (0..n).map(|i| e[(i, c)] * shape[i]).sum();
+                phi[c * nm + r] = gather(shape, c);
             }
         }
         let damping = (0..nm)
@@ -157,19 +166,40 @@ impl ModalModel {
                         .into(),
                 })?;
             let shapes = solution.shapes();
-            // Load made M-orthogonal to the kept modes: E' = E − MΦ(ΦᵀE).
             let mphi = system.mul_m(shapes);
-            let mut x = e.clone();
-            let pe = shapes.transpose() * e.as_ref();
+            // Load made M-orthogonal to the kept modes: E' = E − MΦ(ΦᵀE), with ΦᵀE = φ gathered.
+            let pe = Mat::from_fn(nm, nc, |r, c| phi[c * nm + r]);
+            let mut x = Mat::<f64>::zeros(system.n_dofs(), nc);
+            for c in 0..nc {
+                for &(i, w) in &taps[c] {
+                    x[(i, c)] += w;
+                }
+            }
             x -= &mphi * &pe;
-            factor.solve_in_place(x.as_mut());
+            // Solve in column chunks to bound the work space.
+            const CHUNK: usize = 256;
+            for start in (0..nc).step_by(CHUNK) {
+                let width = CHUNK.min(nc - start);
+                factor.solve_in_place(x.as_mut().subcols_mut(start, width));
+            }
             // Remove any kept-mode content left by round-off: X ← X − Φ(ΦᵀMX).
             let c = mphi.transpose() * x.as_ref();
             x -= shapes * &c;
-            let r = e.transpose() * x.as_ref();
+            for b in 0..nc {
+                let col = x
+                    .col(b)
+                    .try_as_col_major()
+                    .map(|c| c.as_slice())
+                    .unwrap_or(&[]);
+                for a in 0..nc {
+                    residual[a * nc + b] = gather(col, a);
+                }
+            }
             for a in 0..nc {
-                for b in 0..nc {
-                    residual[a * nc + b] = 0.5 * (r[(a, b)] + r[(b, a)]);
+                for b in (a + 1)..nc {
+                    let v = 0.5 * (residual[a * nc + b] + residual[b * nc + a]);
+                    residual[a * nc + b] = v;
+                    residual[b * nc + a] = v;
                 }
             }
         }
@@ -259,7 +289,6 @@ impl ModalModel {
         responses: &[usize],
         absorbers: &[AbsorberLink],
     ) -> CoupledResponse {
-        let w2 = omega * omega;
         let na = absorbers.len();
         let forced = |c: usize| -> Complex64 {
             loads
@@ -270,35 +299,15 @@ impl ModalModel {
         let mut g = vec![Complex64::new(0.0, 0.0); na];
         let mut stroke = vec![Complex64::new(0.0, 0.0); na];
         if na > 0 {
-            let ks: Vec<Complex64> = absorbers
-                .iter()
-                .map(|a| a.complex_stiffness(omega))
-                .collect();
-            let rhs: Vec<Complex64> = absorbers.iter().map(|a| forced(a.coord)).collect();
-            let y = if na == 1 {
-                let a = &absorbers[0];
-                let h = self.receptance_with(factors, a.coord, a.coord);
-                let n = ks[0] - w2 * a.mass - w2 * h * a.mass * ks[0];
-                vec![rhs[0] / n]
-            } else {
-                let mut nmat = Mat::<Complex64>::zeros(na, na);
-                for j in 0..na {
-                    for i in 0..na {
-                        let h =
-                            self.receptance_with(factors, absorbers[j].coord, absorbers[i].coord);
-                        nmat[(j, i)] = -w2 * h * absorbers[i].mass * ks[i];
-                    }
-                    nmat[(j, j)] += ks[j] - w2 * absorbers[j].mass;
+            let fa: Vec<Complex64> = absorbers.iter().map(|a| forced(a.coord)).collect();
+            let mut haa = vec![Complex64::new(0.0, 0.0); na * na];
+            for j in 0..na {
+                for i in 0..na {
+                    haa[j * na + i] =
+                        self.receptance_with(factors, absorbers[j].coord, absorbers[i].coord);
                 }
-                let b = Mat::<Complex64>::from_fn(na, 1, |i, _| rhs[i]);
-                use faer::linalg::solvers::Solve;
-                let sol = nmat.partial_piv_lu().solve(&b);
-                (0..na).map(|i| sol[(i, 0)]).collect()
-            };
-            for i in 0..na {
-                g[i] = w2 * absorbers[i].mass * ks[i] * y[i];
-                stroke[i] = w2 * absorbers[i].mass * y[i];
             }
+            absorber_forces(omega, &haa, &fa, absorbers, &mut g, &mut stroke);
         }
         let displacement = responses
             .iter()
@@ -318,18 +327,100 @@ impl ModalModel {
     }
 }
 
-/// The n × c matrix whose column c is the free-DOF vector of coordinate c (its direction on the
-/// node's free translational DOFs).
-fn coordinate_matrix(system: &System, coords: &[Coordinate]) -> Mat<f64> {
-    let mut e = Mat::<f64>::zeros(system.n_dofs(), coords.len());
-    for (c, co) in coords.iter().enumerate() {
-        for k in 0..3 {
-            if let Some(i) = system.dofs.dof(co.node, k) {
-                e[(i, c)] = co.direction[k];
+/// Largest number of absorbers solved by the in-place elimination of [`absorber_forces`]; more go
+/// through faer's LU.
+const SMALL: usize = 8;
+
+/// Forces and strokes of absorbers at ω (rad/s) from the receptances among their attachments
+/// (`haa`, row-major na × na, m/N) and the attachment motion under the loads alone (`fa`, m): solves
+/// (k*_j − ω²m_j) y_j − ω² Σ_i H_ji m_i k*_i y_i = fa_j and writes g_i = ω² m_i k*_i y_i (N) and
+/// s_i = ω² m_i y_i (m) into `g` and `stroke`.
+///
+/// Small systems (the optimiser's inner loop, called millions of times) are eliminated in place
+/// with partial pivoting on a stack buffer, which avoids an allocation per call.
+pub fn absorber_forces(
+    omega: f64,
+    haa: &[Complex64],
+    fa: &[Complex64],
+    links: &[AbsorberLink],
+    g: &mut [Complex64],
+    stroke: &mut [Complex64],
+) {
+    let na = links.len();
+    let w2 = omega * omega;
+    let zero = Complex64::new(0.0, 0.0);
+    let mut ks = [zero; SMALL];
+    let mut y = [zero; SMALL];
+    if na == 1 {
+        let a = &links[0];
+        let k = a.complex_stiffness(omega);
+        let n = k - w2 * a.mass - w2 * haa[0] * a.mass * k;
+        y[0] = fa[0] / n;
+        ks[0] = k;
+    } else if na <= SMALL {
+        let mut m = [zero; SMALL * SMALL];
+        for i in 0..na {
+            ks[i] = links[i].complex_stiffness(omega);
+        }
+        for j in 0..na {
+            for i in 0..na {
+                m[j * SMALL + i] = -w2 * haa[j * na + i] * links[i].mass * ks[i];
+            }
+            m[j * SMALL + j] += ks[j] - w2 * links[j].mass;
+            y[j] = fa[j];
+        }
+        // Gaussian elimination with partial pivoting.
+        for c in 0..na {
+            let p = (c..na)
+                .max_by(|&a, &b| m[a * SMALL + c].norm().total_cmp(&m[b * SMALL + c].norm()))
+                .unwrap_or(c);
+            if p != c {
+                for k in 0..na {
+                    m.swap(p * SMALL + k, c * SMALL + k);
+                }
+                y.swap(p, c);
+            }
+            let d = m[c * SMALL + c];
+            for r in (c + 1)..na {
+                let f = m[r * SMALL + c] / d;
+                for k in c..na {
+                    let v = m[c * SMALL + k];
+                    m[r * SMALL + k] -= f * v;
+                }
+                let v = y[c];
+                y[r] -= f * v;
             }
         }
+        for c in (0..na).rev() {
+            let mut v = y[c];
+            for k in (c + 1)..na {
+                v -= m[c * SMALL + k] * y[k];
+            }
+            y[c] = v / m[c * SMALL + c];
+        }
+    } else {
+        let ksv: Vec<Complex64> = links.iter().map(|a| a.complex_stiffness(omega)).collect();
+        let mut nmat = Mat::<Complex64>::zeros(na, na);
+        for j in 0..na {
+            for i in 0..na {
+                nmat[(j, i)] = -w2 * haa[j * na + i] * links[i].mass * ksv[i];
+            }
+            nmat[(j, j)] += ksv[j] - w2 * links[j].mass;
+        }
+        let b = Mat::<Complex64>::from_fn(na, 1, |i, _| fa[i]);
+        use faer::linalg::solvers::Solve;
+        let sol = nmat.partial_piv_lu().solve(&b);
+        for i in 0..na {
+            let gi = w2 * links[i].mass * ksv[i] * sol[(i, 0)];
+            g[i] = gi;
+            stroke[i] = w2 * links[i].mass * sol[(i, 0)];
+        }
+        return;
     }
-    e
+    for i in 0..na {
+        g[i] = w2 * links[i].mass * ks[i] * y[i];
+        stroke[i] = w2 * links[i].mass * y[i];
+    }
 }
 
 /// Frequencies (Hz) at which to evaluate a response over `band_hz`: geometric steps of relative
@@ -372,6 +463,33 @@ pub fn golden_max(mut a: f64, mut b: f64, tol: f64, f: impl Fn(f64) -> f64) -> (
         }
     }
     if fc > fd { (c, fc) } else { (d, fd) }
+}
+
+/// Peak through three samples (f₁ < f₂ < f₃, the middle one highest) of a resonance: near a lightly
+/// damped peak |H|² ≈ A / ((f − f₀)² + (ζf₀)²), so 1/|H|² is a parabola in f; fitting it through the
+/// three samples gives f₀ and the peak height with no further evaluation (exact for a single-mode
+/// resonance). Returns (frequency, height); the middle sample when the fit is not a peak inside
+/// [f₁, f₃].
+pub fn resonance_peak(f: [f64; 3], v: [f64; 3]) -> (f64, f64) {
+    let fallback = (f[1], v[1]);
+    if v.iter().any(|&x| x.is_nan() || x <= 0.0) {
+        return fallback;
+    }
+    let y = v.map(|x| 1.0 / (x * x));
+    // Parabola through (f_k, y_k) in x = f − f₂: y = a x² + b x + c, c = y₂.
+    let (x1, x3) = (f[0] - f[1], f[2] - f[1]);
+    let (d1, d3) = ((y[0] - y[1]) / x1, (y[2] - y[1]) / x3);
+    let a = (d3 - d1) / (x3 - x1);
+    let b = d1 - a * x1;
+    if a.is_nan() || a <= 0.0 {
+        return fallback;
+    }
+    let x0 = -b / (2.0 * a);
+    let y0 = y[1] - b * b / (4.0 * a);
+    if x0 < x1 || x0 > x3 || y0.is_nan() || y0 <= 0.0 {
+        return fallback;
+    }
+    (f[1] + x0, (1.0 / y0.sqrt()).max(v[1]))
 }
 
 /// Local maxima of `values` over the grid `freq_hz`, each refined by golden-section search of
@@ -418,6 +536,19 @@ mod tests {
     fn golden_section_finds_a_parabola_top() {
         let (x, y) = golden_max(0.0, 3.0, 1e-10, |x| -(x - 1.3f64).powi(2) + 2.0);
         assert!((x - 1.3).abs() < 1e-6 && (y - 2.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn resonance_peak_is_exact_for_a_single_mode() {
+        // |H| = 1/√((f − f₀)² + g²): three samples anywhere around the top recover f₀ and 1/g.
+        let (f0, g) = (101.3, 0.7);
+        let h = |f: f64| 1.0 / ((f - f0).powi(2) + g * g).sqrt();
+        let fs = [100.9, 101.45, 102.2];
+        let (f, v) = resonance_peak(fs, fs.map(h));
+        assert!(
+            (f - f0).abs() < 1e-9 && (v - 1.0 / g).abs() < 1e-9 / g,
+            "{f} {v}"
+        );
     }
 
     #[test]

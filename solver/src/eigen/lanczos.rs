@@ -12,9 +12,10 @@
 //! After m = jp basis vectors, the projection T = Qᵀ M Op Q (m × m, block tridiagonal in exact
 //! arithmetic, kept whole here) gives Ritz pairs (θ, y = Q s); the residual of a pair is
 //! ‖Op y − θ y‖_M = ‖B_j s_last‖₂, where B_j couples the next block and s_last holds the last p
-//! entries of s.
+//! entries of s. Ritz values θ are accurate to about ε θ_max, so λ = σ + 1/θ keeps its relative
+//! accuracy even when K is very ill-conditioned (fine meshes), unlike a Rayleigh quotient φᵀKφ.
 
-use faer::{Mat, MatRef, Side};
+use faer::{Mat, MatMut, MatRef, Side};
 use rand::{RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
@@ -74,7 +75,7 @@ fn orthogonalise(w: &mut Mat<f64>, q: MatRef<'_, f64>, mq: MatRef<'_, f64>) -> M
 
 /// M-orthonormalises the columns of `w` in place (modified Gram–Schmidt with one re-pass), with
 /// `mw` = M w kept in step. Returns the upper-triangular B with W_in = W_out B, and the columns that
-/// were numerically dependent (replaced by zeros; the caller refills them).
+/// were numerically dependent (zeroed).
 fn orthonormalise_block(w: &mut Mat<f64>, mw: &mut Mat<f64>) -> (Mat<f64>, Vec<usize>) {
     let p = w.ncols();
     let n = w.nrows();
@@ -121,27 +122,67 @@ fn dot(a: faer::ColRef<'_, f64>, b: faer::ColRef<'_, f64>) -> f64 {
     s
 }
 
-fn random_block(n: usize, p: usize, rng: &mut ChaCha8Rng) -> Mat<f64> {
-    Mat::from_fn(n, p, |_, _| rng.random::<f64>() - 0.5)
+/// A Lanczos basis with room for `cap` columns, filled left to right.
+struct Basis {
+    q: Mat<f64>,
+    mq: Mat<f64>,
+    len: usize,
 }
 
-/// A basis block with its M-image, orthogonal to the locked vectors and to `q`.
+impl Basis {
+    fn new(n: usize, cap: usize) -> Self {
+        Self {
+            q: Mat::zeros(n, cap),
+            mq: Mat::zeros(n, cap),
+            len: 0,
+        }
+    }
+
+    fn q(&self) -> MatRef<'_, f64> {
+        self.q.subcols(0, self.len)
+    }
+
+    fn mq(&self) -> MatRef<'_, f64> {
+        self.mq.subcols(0, self.len)
+    }
+
+    fn room(&self) -> usize {
+        self.q.ncols() - self.len
+    }
+
+    /// Appends the columns of `x` (with `mx` = M x) not listed in `skip`; returns how many.
+    fn push(&mut self, x: &Mat<f64>, mx: &Mat<f64>, skip: &[usize]) -> usize {
+        let mut added = 0;
+        for c in 0..x.ncols() {
+            if skip.contains(&c) || self.room() == 0 {
+                continue;
+            }
+            self.q.col_mut(self.len).copy_from(x.col(c));
+            self.mq.col_mut(self.len).copy_from(mx.col(c));
+            self.len += 1;
+            added += 1;
+        }
+        added
+    }
+}
+
+/// A basis block with its M-image, orthogonal to the locked vectors and to the basis, from a seeded
+/// random block passed through Op (which purifies it of M's null space).
 fn fresh_directions(
     op: &Operator<'_>,
-    n: usize,
     p: usize,
     locked: (MatRef<'_, f64>, MatRef<'_, f64>),
-    q: (MatRef<'_, f64>, MatRef<'_, f64>),
+    basis: &Basis,
     rng: &mut ChaCha8Rng,
     n_solves: &mut usize,
 ) -> (Mat<f64>, Mat<f64>) {
-    // Op applied to a random block lies in the range of Op (purified of M's null space).
-    let r = random_block(n, p, rng);
+    let n = op.system.n_dofs();
+    let r = Mat::from_fn(n, p, |_, _| rng.random::<f64>() - 0.5);
     let mr = op.system.mul_m(r.as_ref());
     let mut x = op.apply_to_mx(mr.as_ref());
     *n_solves += 1;
     orthogonalise(&mut x, locked.0, locked.1);
-    orthogonalise(&mut x, q.0, q.1);
+    orthogonalise(&mut x, basis.q(), basis.mq());
     let mx = op.system.mul_m(x.as_ref());
     (x, mx)
 }
@@ -162,78 +203,47 @@ pub(crate) fn run(
     let max_dim = params.max_dim.min(room).max(p.min(room));
     let mut rng = ChaCha8Rng::seed_from_u64(params.seed);
     let mut n_solves = 0usize;
-    let mut q = Mat::<f64>::zeros(n, 0);
-    let mut mq = Mat::<f64>::zeros(n, 0);
-    let (mut x, mut mx) = fresh_directions(
-        op,
-        n,
-        p,
-        (locked, mlocked),
-        (q.as_ref(), mq.as_ref()),
-        &mut rng,
-        &mut n_solves,
-    );
+    let mut basis = Basis::new(n, max_dim);
+    // T grows inside a preallocated square.
+    let mut t = Mat::<f64>::zeros(max_dim, max_dim);
+    let (mut x, mut mx) =
+        fresh_directions(op, p, (locked, mlocked), &basis, &mut rng, &mut n_solves);
     let (_, dependent) = orthonormalise_block(&mut x, &mut mx);
     if dependent.len() == p {
         return Err(SolverError::NoConvergence(
             "the start block is empty (no free direction left)".into(),
         ));
     }
-    append(&mut q, &mut mq, &x, &mx, &dependent);
-    let mut t = Mat::<f64>::zeros(0, 0);
+    basis.push(&x, &mx, &dependent);
     let mut block_start = 0usize;
-    let mut next_check = (2 * p).max(p);
+    let mut next_check = 2 * p;
     loop {
-        let m = q.ncols();
-        let cur = block_start..m;
-        let width = cur.len();
+        let m = basis.len;
+        let width = m - block_start;
         // W = Op Q_j, using the stored M Q_j.
-        let mut w = op.apply_to_mx(mq.subcols(block_start, width));
+        let mut w = op.apply_to_mx(basis.mq.subcols(block_start, width));
         n_solves += 1;
         orthogonalise(&mut w, locked, mlocked);
-        let coeff = orthogonalise(&mut w, q.as_ref(), mq.as_ref());
-        // Grow T with this block's column of coefficients.
-        let mut t2 = Mat::<f64>::zeros(m, m);
-        for i in 0..t.nrows() {
-            for j in 0..t.ncols() {
-                t2[(i, j)] = t[(i, j)];
-            }
-        }
-        for (cj, j) in cur.clone().enumerate() {
-            for i in 0..m {
-                if i < block_start {
-                    // Coefficients against earlier blocks: upper part, mirrored below.
-                    t2[(i, j)] = coeff[(i, cj)];
-                    t2[(j, i)] = coeff[(i, cj)];
-                } else {
-                    t2[(i, j)] = coeff[(i, cj)];
-                }
-            }
-        }
-        // Symmetrise the diagonal block.
-        for a in cur.clone() {
-            for b in cur.clone() {
-                if a < b {
-                    let v = 0.5 * (t2[(a, b)] + t2[(b, a)]);
-                    t2[(a, b)] = v;
-                    t2[(b, a)] = v;
-                }
-            }
-        }
-        t = t2;
+        let coeff = orthogonalise(&mut w, basis.q(), basis.mq());
+        fill_column_block(t.as_mut(), &coeff, block_start, m);
         let mut mw = op.system.mul_m(w.as_ref());
         let (b, dependent) = orthonormalise_block(&mut w, &mut mw);
         let grown = width - dependent.len().min(width);
-        let full = m + width >= max_dim;
+        let full = m + width > max_dim || basis.room() == 0;
         if m >= next_check || full || grown == 0 {
             next_check = m + (m / 4).max(2 * p);
-            let ritz = rayleigh_ritz(&t, &b, width, &dependent);
-            let done = converged(&ritz, want, params.tolerance);
+            let ritz = rayleigh_ritz(t.as_ref().submatrix(0, 0, m, m), &b, width, &dependent);
+            let done = ritz.theta.len() >= want
+                && ritz
+                    .residual
+                    .iter()
+                    .take(want)
+                    .all(|&r| r <= params.tolerance);
             let space_left = m < room;
             if done || full || (grown == 0 && !space_left) {
                 let exhausted = grown == 0 && !space_left;
                 return Ok(collect(
-                    &q,
+                    basis.q(),
                     ritz,
                     want,
                     params.tolerance,
@@ -244,44 +254,48 @@ pub(crate) fn run(
         }
         block_start = m;
         if grown > 0 {
-            append(&mut q, &mut mq, &w, &mw, &dependent);
+            basis.push(&w, &mw, &dependent);
             continue;
         }
         // The basis spans an invariant subspace but the wanted pairs are not all there (a start
-        // vector poor in some modes): continue with fresh random directions orthogonal to it. Their
+        // block poor in some modes): continue with fresh random directions orthogonal to it. Their
         // coupling to the old basis is zero in exact arithmetic; the next step computes it.
-        let (mut x, mut mx) = fresh_directions(
-            op,
-            n,
-            p,
-            (locked, mlocked),
-            (q.as_ref(), mq.as_ref()),
-            &mut rng,
-            &mut n_solves,
-        );
+        let (mut x, mut mx) =
+            fresh_directions(op, p, (locked, mlocked), &basis, &mut rng, &mut n_solves);
         let (_, dep) = orthonormalise_block(&mut x, &mut mx);
-        if dep.len() == x.ncols() {
-            let ritz = rayleigh_ritz(&t, &Mat::zeros(0, 0), 0, &[]);
-            return Ok(collect(&q, ritz, want, params.tolerance, n_solves, true));
+        if dep.len() == x.ncols() || basis.push(&x, &mx, &dep) == 0 {
+            let ritz = rayleigh_ritz(t.as_ref().submatrix(0, 0, m, m), &Mat::zeros(0, 0), 0, &[]);
+            return Ok(collect(
+                basis.q(),
+                ritz,
+                want,
+                params.tolerance,
+                n_solves,
+                true,
+            ));
         }
-        append(&mut q, &mut mq, &x, &mx, &dep);
     }
 }
 
-fn append(q: &mut Mat<f64>, mq: &mut Mat<f64>, x: &Mat<f64>, mx: &Mat<f64>, skip: &[usize]) {
-    let keep: Vec<usize> = (0..x.ncols()).filter(|c| !skip.contains(c)).collect();
-    let n = q.nrows();
-    let m = q.ncols();
-    let mut q2 = Mat::<f64>::zeros(n, m + keep.len());
-    let mut mq2 = Mat::<f64>::zeros(n, m + keep.len());
-    q2.subcols_mut(0, m).copy_from(q.as_ref());
-    mq2.subcols_mut(0, m).copy_from(mq.as_ref());
-    for (k, &c) in keep.iter().enumerate() {
-        q2.col_mut(m + k).copy_from(x.col(c));
-        mq2.col_mut(m + k).copy_from(mx.col(c));
+/// Writes this step's coefficients into T: column block [start, m) from rows 0..m, mirrored into
+/// the rows of the block for earlier columns, and the diagonal block symmetrised.
+fn fill_column_block(mut t: MatMut<'_, f64>, coeff: &Mat<f64>, start: usize, m: usize) {
+    for cj in 0..(m - start) {
+        let j = start + cj;
+        for i in 0..m {
+            t[(i, j)] = coeff[(i, cj)];
+            if i < start {
+                t[(j, i)] = coeff[(i, cj)];
+            }
+        }
     }
-    *q = q2;
-    *mq = mq2;
+    for a in start..m {
+        for b in (a + 1)..m {
+            let v = 0.5 * (t[(a, b)] + t[(b, a)]);
+            t[(a, b)] = v;
+            t[(b, a)] = v;
+        }
+    }
 }
 
 /// Ritz values (decreasing), vectors in the basis, and residual norms.
@@ -291,10 +305,9 @@ struct Ritz {
     residual: Vec<f64>,
 }
 
-fn rayleigh_ritz(t: &Mat<f64>, b: &Mat<f64>, width: usize, dependent: &[usize]) -> Ritz {
+fn rayleigh_ritz(t: MatRef<'_, f64>, b: &Mat<f64>, width: usize, dependent: &[usize]) -> Ritz {
     let m = t.nrows();
-    let evd = t.self_adjoint_eigen(Side::Lower);
-    let Ok(evd) = evd else {
+    let Ok(evd) = t.self_adjoint_eigen(Side::Lower) else {
         return Ritz {
             theta: vec![],
             s: Mat::zeros(m, 0),
@@ -321,18 +334,13 @@ fn rayleigh_ritz(t: &Mat<f64>, b: &Mat<f64>, width: usize, dependent: &[usize]) 
             }
             sum += v * v;
         }
-        let th = theta[c].abs().max(f64::MIN_POSITIVE);
-        *res = sum.sqrt() / th;
+        *res = sum.sqrt() / theta[c].abs().max(f64::MIN_POSITIVE);
     }
     Ritz { theta, s, residual }
 }
 
-fn converged(ritz: &Ritz, want: usize, tol: f64) -> bool {
-    ritz.theta.len() >= want && ritz.residual.iter().take(want).all(|&r| r <= tol)
-}
-
 fn collect(
-    q: &Mat<f64>,
+    q: MatRef<'_, f64>,
     ritz: Ritz,
     want: usize,
     tol: f64,
@@ -340,19 +348,18 @@ fn collect(
     exhausted: bool,
 ) -> RitzPairs {
     let k_want = want.min(ritz.theta.len());
-    // Return every converged pair among the wanted ones (leading, in θ order, up to the first that
-    // is not converged), so the caller can lock them.
+    // The leading converged pairs (in θ order, up to the first that is not converged), so the
+    // caller can lock them; all of them when the space is exhausted (Ritz pairs are then exact).
     let mut k = 0;
     while k < k_want && (ritz.residual[k] <= tol || exhausted) {
         k += 1;
     }
     let m = ritz.s.nrows();
-    let sk = ritz.s.subcols(0, k);
-    let vectors = q.subcols(0, m) * sk;
+    let vectors = q.subcols(0, m) * ritz.s.subcols(0, k);
     RitzPairs {
         theta: ritz.theta[..k].to_vec(),
         vectors,
-        all_theta: ritz.theta.clone(),
+        all_theta: ritz.theta,
         n_solves,
     }
 }

@@ -353,13 +353,15 @@ fn select(sol: &mut ModalSolution, request: ModeRequest) {
     }
 }
 
+/// Converged eigenvectors locked so far, with their M-images and eigenvalues.
 struct Locked {
     y: Mat<f64>,
     my: Mat<f64>,
+    lambda: Vec<f64>,
 }
 
 impl Locked {
-    fn push(&mut self, system: &System, v: MatRef<'_, f64>) {
+    fn push(&mut self, system: &System, v: MatRef<'_, f64>, lambda: &[f64]) {
         if v.ncols() == 0 {
             return;
         }
@@ -374,34 +376,48 @@ impl Locked {
         my2.subcols_mut(m, v.ncols()).copy_from(mv.as_ref());
         self.y = y2;
         self.my = my2;
+        self.lambda.extend_from_slice(lambda);
+    }
+
+    /// Eigenvalues in ascending order, with the permutation that sorts them.
+    fn sorted(&self) -> (Vec<f64>, Vec<usize>) {
+        let mut order: Vec<usize> = (0..self.lambda.len()).collect();
+        order.sort_by(|&a, &b| self.lambda[a].total_cmp(&self.lambda[b]).then(a.cmp(&b)));
+        (order.iter().map(|&i| self.lambda[i]).collect(), order)
     }
 }
 
-/// Rayleigh–Ritz of (K, M) on the span of `y`: ascending eigenvalues and M-orthonormal vectors.
-fn rayleigh_ritz(system: &System, y: MatRef<'_, f64>) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
-    let k = y.ncols();
-    if k == 0 {
-        return Ok((vec![], Mat::zeros(y.nrows(), 0)));
-    }
-    let ky = system.mul_k(y);
-    let my = system.mul_m(y);
-    let kr = y.transpose() * ky.as_ref();
-    let mr = y.transpose() * my.as_ref();
-    let kr = Mat::from_fn(k, k, |i, j| 0.5 * (kr[(i, j)] + kr[(j, i)]));
-    let mr = Mat::from_fn(k, k, |i, j| 0.5 * (mr[(i, j)] + mr[(j, i)]));
-    let llt = mr.llt(Side::Lower).map_err(|e| {
+/// Rayleigh–Ritz in the shift-invert space on the span of `x`: the eigenpairs of
+/// (Xᵀ M Op X) s = θ (Xᵀ M X) s, returned as λ = σ + 1/θ (ascending) and M-orthonormal vectors X s.
+/// Unlike a Rayleigh quotient of K, this keeps the relative accuracy of small eigenvalues of
+/// ill-conditioned K (one extra block solve).
+fn shift_invert_ritz(
+    op: &Operator<'_>,
+    sigma: f64,
+    x: MatRef<'_, f64>,
+    stats: &mut SolveStats,
+) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
+    let k = x.ncols();
+    let mx = op.system.mul_m(x);
+    let z = op.apply_to_mx(mx.as_ref());
+    stats.block_solves += 1;
+    let g = mx.transpose() * z.as_ref();
+    let b = x.transpose() * mx.as_ref();
+    let g = Mat::from_fn(k, k, |i, j| 0.5 * (g[(i, j)] + g[(j, i)]));
+    let b = Mat::from_fn(k, k, |i, j| 0.5 * (b[(i, j)] + b[(j, i)]));
+    let llt = b.llt(Side::Lower).map_err(|e| {
         SolverError::NoConvergence(format!(
-            "the computed mode set is not linearly independent ({e:?})"
+            "the computed vectors are not linearly independent ({e:?})"
         ))
     })?;
     let l = llt.L().to_owned();
-    let mut x = kr.clone();
+    let mut c = g.clone();
     faer::linalg::triangular_solve::solve_lower_triangular_in_place(
         l.as_ref(),
-        x.as_mut(),
+        c.as_mut(),
         faer::Par::Seq,
     );
-    let mut c = x.transpose().to_owned();
+    let mut c = c.transpose().to_owned();
     faer::linalg::triangular_solve::solve_lower_triangular_in_place(
         l.as_ref(),
         c.as_mut(),
@@ -411,14 +427,20 @@ fn rayleigh_ritz(system: &System, y: MatRef<'_, f64>) -> Result<(Vec<f64>, Mat<f
     let evd = c
         .self_adjoint_eigen(Side::Lower)
         .map_err(|e| SolverError::NoConvergence(format!("{e:?}")))?;
-    let vals: Vec<f64> = (0..k).map(|i| evd.S().column_vector()[i]).collect();
     let mut s = evd.U().to_owned();
     faer::linalg::triangular_solve::solve_upper_triangular_in_place(
         l.transpose(),
         s.as_mut(),
         faer::Par::Seq,
     );
-    Ok((vals, y * s))
+    // Largest θ first is lowest λ first.
+    let order: Vec<usize> = (0..k).rev().collect();
+    let lambda = order
+        .iter()
+        .map(|&i| sigma + 1.0 / evd.S().column_vector()[i])
+        .collect();
+    let s = Mat::from_fn(k, k, |r, c| s[(r, order[c])]);
+    Ok((lambda, x * s))
 }
 
 fn solve_lanczos(
@@ -471,16 +493,18 @@ fn solve_lanczos(
     let mut locked = Locked {
         y: Mat::zeros(n, 0),
         my: Mat::zeros(n, 0),
+        lambda: Vec::new(),
     };
     // Zero-energy subspace by subspace iteration: θ = 1/|σ| is far above every elastic θ.
     if !zero_dofs.is_empty() && sigma < 0.0 {
         let z = zero_space(&op, zero_dofs.len().min(n), params.seed, &mut stats);
-        let (vals, vecs) = rayleigh_ritz(system, z.as_ref())?;
+        let (vals, vecs) = shift_invert_ritz(&op, sigma, z.as_ref(), &mut stats)?;
         let keep: Vec<usize> = (0..vals.len())
             .filter(|&i| vals[i].abs() <= 1e-3 * sigma.abs())
             .collect();
         let v = Mat::from_fn(n, keep.len(), |r, c| vecs[(r, keep[c])]);
-        locked.push(system, v.as_ref());
+        let l: Vec<f64> = keep.iter().map(|&i| vals[i]).collect();
+        locked.push(system, v.as_ref(), &l);
     }
     let p = params.block_size.max(1);
     // For a band, the Sturm count at its top says how many modes to find.
@@ -494,7 +518,7 @@ fn solve_lanczos(
     let mut last_all_theta: Vec<f64> = Vec::new();
     let mut boost = 1usize;
     let sturm = loop {
-        let (vals, _) = rayleigh_ritz(system, locked.y.as_ref())?;
+        let (vals, _) = locked.sorted();
         // How many more modes to look for, and the completeness check when none.
         let need = match (request, band) {
             (ModeRequest::Band { .. }, Some((cnt, shift))) => {
@@ -553,9 +577,11 @@ fn solve_lanczos(
         if pairs.theta.len() < need {
             boost *= 2;
         }
-        locked.push(system, pairs.vectors.as_ref());
+        let l: Vec<f64> = pairs.theta.iter().map(|&t| sigma + 1.0 / t).collect();
+        locked.push(system, pairs.vectors.as_ref(), &l);
     };
-    let (vals, vecs) = rayleigh_ritz(system, locked.y.as_ref())?;
+    let (vals, order) = locked.sorted();
+    let vecs = Mat::from_fn(n, order.len(), |r, c| locked.y[(r, order[c])]);
     let n_zero = vals
         .iter()
         .filter(|&&l| l <= ZERO_EIGENVALUE * scale)
@@ -581,7 +607,8 @@ fn solve_lanczos(
     Ok(sol)
 }
 
-/// Subspace iteration for the `k`-dimensional zero-energy space: X ← (K − σM)⁻¹ M X, M-orthonormal.
+/// Subspace iteration for the `k`-dimensional zero-energy space: X ← (K − σM)⁻¹ M X, columns
+/// normalised.
 fn zero_space(op: &Operator<'_>, k: usize, seed: u64, stats: &mut SolveStats) -> Mat<f64> {
     use rand::{RngExt, SeedableRng};
     let n = op.system.n_dofs();
@@ -591,7 +618,6 @@ fn zero_space(op: &Operator<'_>, k: usize, seed: u64, stats: &mut SolveStats) ->
         let mx = op.system.mul_m(x.as_ref());
         x = op.apply_to_mx(mx.as_ref());
         stats.block_solves += 1;
-        // Normalise columns to keep the numbers in range; Rayleigh–Ritz orthonormalises at the end.
         for c in 0..k {
             let norm = (0..n).map(|i| x[(i, c)] * x[(i, c)]).sum::<f64>().sqrt();
             if norm > 0.0 {
@@ -607,50 +633,138 @@ fn zero_space(op: &Operator<'_>, k: usize, seed: u64, stats: &mut SolveStats) ->
 pub use post::participation;
 
 /// Checks the zero-energy (rigid-body and mechanism) motions of `system` against what `structure`
-/// expects, before any eigen solution: returns their number.
+/// expects, before the main eigen solution: returns their number.
+///
+/// The rank-revealing LDLᵀ of K gives a fast count; when it disagrees with the expectation, the
+/// lowest modes are computed to count the zero-frequency ones for sure (pivots can misjudge nearly
+/// singular parts), and the error describes their motion.
 ///
 /// # Errors
-/// [`SolverError::Mechanism`] naming the DOFs where the stiffness vanishes when the count differs
-/// from [`Structure::expected_rigid_body_modes`] (the user's `rigid_body_modes`, or 0 for a held
-/// model and 6 per free part with beams).
+/// [`SolverError::Mechanism`] when the count differs from [`Structure::expected_rigid_body_modes`]
+/// (the user's `rigid_body_modes`, or 0 for a held model and 6 per free part with beams), naming
+/// the kinds of motion (ux … rz) the zero-frequency modes make and the DOFs where the stiffness
+/// vanishes.
 pub fn check_zero_energy(structure: &Structure, system: &System) -> Result<usize, SolverError> {
     let zero = zero_energy_dofs(system)?;
     let Some(expected) = structure.expected_rigid_body_modes() else {
         return Ok(zero.len());
     };
     if zero.len() == expected {
-        return Ok(zero.len());
+        return Ok(expected);
     }
-    let mut names: Vec<String> = zero
+    let count = (zero.len().max(expected) + 6).min(system.n_dofs());
+    let sol = solve_modes(system, ModeRequest::Lowest(count), &EigenParams::default())?;
+    if sol.n_zero_energy == expected {
+        return Ok(expected);
+    }
+    Err(mechanism(structure, system, &sol, expected, &zero))
+}
+
+/// Checks a computed solution against the zero-frequency modes `structure` expects (a safety net
+/// after [`check_zero_energy`]).
+///
+/// # Errors
+/// [`SolverError::Mechanism`] when `solution` holds more zero-frequency modes than expected.
+pub fn confirm_zero_energy(
+    structure: &Structure,
+    system: &System,
+    solution: &ModalSolution,
+) -> Result<(), SolverError> {
+    match structure.expected_rigid_body_modes() {
+        Some(expected) if solution.n_zero_energy > expected => {
+            Err(mechanism(structure, system, solution, expected, &[]))
+        }
+        _ => Ok(()),
+    }
+}
+
+fn mechanism(
+    structure: &Structure,
+    system: &System,
+    sol: &ModalSolution,
+    expected: usize,
+    pivots: &[usize],
+) -> SolverError {
+    let found = sol.n_zero_energy;
+    let kinds = motion_kinds(structure, system, sol);
+    let kinds = if kinds.is_empty() {
+        "directions no support holds".to_string()
+    } else {
+        kinds.join(", ")
+    };
+    let mut at: Vec<String> = pivots
         .iter()
-        .take(8)
+        .take(6)
         .map(|&d| system.dofs.describe(d, structure))
         .collect();
-    if zero.len() > 8 {
-        names.push("...".into());
+    if pivots.len() > 6 {
+        at.push("...".into());
     }
-    let detail = if zero.len() > expected {
+    let modes: Vec<String> = (1..=found).map(|i| i.to_string()).collect();
+    let detail = if found > expected {
         format!(
-            "nothing restrains the motion found at {} (a support is missing or a DOF is released); \
-             add supports or springs, or state the intended count as \"rigid_body_modes\"",
-            names.join(", ")
+            "the zero-frequency mode{} {} move{} in {kinds}{}, and nothing restrains {} (a support is missing or a DOF \
+             is released); add supports or springs, or state the intended count as \"rigid_body_modes\"",
+            if found == 1 { "" } else { "s" },
+            modes.join(", "),
+            if found == 1 { "s" } else { "" },
+            if at.is_empty() {
+                String::new()
+            } else {
+                format!(" (no stiffness found at {})", at.join(", "))
+            },
+            if found == 1 { "it" } else { "them" },
         )
     } else {
         format!(
-            "{} found{}; state the intended count as \"rigid_body_modes\"",
-            zero.len(),
-            if names.is_empty() {
-                String::new()
-            } else {
-                format!(" at {}", names.join(", "))
-            }
+            "only {found} zero-frequency mode(s) exist; state the intended count as \"rigid_body_modes\""
         )
     };
-    Err(SolverError::Mechanism {
-        found: zero.len(),
+    SolverError::Mechanism {
+        found,
         expected,
         detail,
-    })
+    }
+}
+
+/// DOF kinds (`ux` … `rz`) that carry at least a tenth of the motion of the zero-frequency modes.
+/// Rotations are scaled by the model size so both kinds are lengths, and the modes are made
+/// orthonormal first, so the shares do not depend on which basis of the repeated zero eigenvalue
+/// the solver returned.
+fn motion_kinds(structure: &Structure, system: &System, sol: &ModalSolution) -> Vec<&'static str> {
+    const NAMES: [&str; 6] = ["ux", "uy", "uz", "rx", "ry", "rz"];
+    let size = structure.size();
+    let size = if size > 0.0 { size } else { 1.0 };
+    let dot = |a: &[f64], b: &[f64]| a.iter().zip(b).map(|(x, y)| x * y).sum::<f64>();
+    let mut basis: Vec<Vec<f64>> = Vec::new();
+    for i in 0..sol.n_zero_energy {
+        let mut v: Vec<f64> = system
+            .dofs
+            .expand(sol.shape(i))
+            .iter()
+            .flat_map(|d| (0..6).map(move |c| if c < 3 { d[c] } else { d[c] * size }))
+            .collect();
+        let before = dot(&v, &v).sqrt();
+        for b in &basis {
+            let p = dot(&v, b);
+            v.iter_mut().zip(b).for_each(|(x, y)| *x -= p * y);
+        }
+        let norm = dot(&v, &v).sqrt();
+        if norm > 1e-8 * before {
+            v.iter_mut().for_each(|x| *x /= norm);
+            basis.push(v);
+        }
+    }
+    let mut share = [0.0; 6];
+    for b in &basis {
+        for (j, x) in b.iter().enumerate() {
+            share[j % 6] += x * x;
+        }
+    }
+    (0..6)
+        .filter(|&c| share[c] >= 0.1)
+        .map(|c| NAMES[c])
+        .collect()
 }
 
 /// A shift just above the `c`-th computed eigenvalue and below the next one (computed or estimated

@@ -203,14 +203,15 @@ fn rigid_motions(system: &System) -> Mat<f64> {
     r
 }
 
-/// Modal participation L_i,d = φ_iᵀ M r_d for unit rigid translations r_d along X, Y, Z (kg^½
-/// for mass-normalised modes). The effective modal mass of mode i in direction d is L_i,d², in kg;
-/// over all modes of a free body their sum is the total mass in that direction (Irvine,
-/// "Effective modal mass & modal participation factors"; ECSS glossary, "effective modal mass").
+/// Modal participation in base motion: L_i,d = φ_iᵀ b_d, with b_d the inertia load of a unit rigid
+/// translation along X, Y, Z of the whole model, supports included (b_d = M_ff r_f + M_fs r_s: the
+/// supports move with the base). The effective modal mass of mode i in direction d is L_i,d² (kg) for
+/// mass-normalised modes (Irvine, "Effective modal mass & modal participation factors"; Chopra,
+/// Dynamics of Structures, earthquake analysis — from memory). Over all modes of a free body the
+/// effective masses add up to the total mass (ECSS glossary, "effective modal mass"); for a
+/// supported body they add up to less, the rest staying with the supports.
 pub fn participation(system: &System, sol: &ModalSolution) -> Vec<[f64; 3]> {
-    let r = system.translation_vectors();
-    let mr = system.mul_m(r.as_ref());
-    let l = sol.shapes().transpose() * mr.as_ref();
+    let l = sol.shapes().transpose() * system.base_inertia.as_ref();
     (0..sol.n_modes())
         .map(|i| [l[(i, 0)], l[(i, 1)], l[(i, 2)]])
         .collect()

@@ -437,6 +437,26 @@ mod tests {
                         .sum();
                     assert!(close(mu, mass, 1e-12), "{mu} vs {mass}");
                 }
+                // Exactly six zero-energy modes: the other six eigenvalues of K are clearly positive.
+                let kmat = faer::Mat::from_fn(12, 12, |i, j| k[i][j]);
+                let mut ev = kmat
+                    .self_adjoint_eigenvalues(faer::Side::Lower)
+                    .unwrap_or_default();
+                ev.sort_by(f64::total_cmp);
+                assert_eq!(ev.len(), 12);
+                assert!(
+                    ev[5].abs() < 1e-9 * scale && ev[6] > 1e-6 * scale,
+                    "zero-energy count: {ev:?}"
+                );
+                // Positive definite mass.
+                let mmat = faer::Mat::from_fn(12, 12, |i, j| m[i][j]);
+                let mev = mmat
+                    .self_adjoint_eigenvalues(faer::Side::Lower)
+                    .unwrap_or_default();
+                assert!(
+                    mev.iter().all(|&v| v > 0.0),
+                    "mass not positive definite: {mev:?}"
+                );
                 // Symmetry.
                 for i in 0..12 {
                     for j in 0..12 {

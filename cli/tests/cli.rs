@@ -1,0 +1,991 @@
+//! Integration tests of the `antinode` program: each test runs the built binary in its own
+//! temporary folder and checks the JSON contract of the commands (README, "Stable JSON fields"),
+//! the files they write, and that bad input ends with a non-zero exit code, a message naming the
+//! item, field and what is wrong, and no output left behind.
+
+use std::collections::BTreeSet;
+use std::ffi::OsStr;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use serde_json::{Value, json};
+use tempfile::TempDir;
+
+/// The binary under test.
+const BIN: &str = env!("CARGO_BIN_EXE_antinode");
+
+/// Exit code of `main` on a reported error (`ExitCode::FAILURE`); a panic gives 101, a clap usage
+/// error 2.
+const ERROR_EXIT_CODE: i32 = 1;
+
+/// What a run of the program produced.
+struct Run {
+    code: Option<i32>,
+    stdout: String,
+    stderr: String,
+}
+
+impl Run {
+    /// Standard output parsed as JSON; fails the test with both streams otherwise.
+    fn json(&self) -> Value {
+        serde_json::from_str(&self.stdout).unwrap_or_else(|e| {
+            panic!(
+                "stdout is not JSON ({e}):\n--- stdout\n{}\n--- stderr\n{}",
+                self.stdout, self.stderr
+            )
+        })
+    }
+
+    /// Fails the test unless the run succeeded.
+    fn assert_success(&self, what: &str) {
+        assert_eq!(
+            self.code,
+            Some(0),
+            "{what} failed:\n--- stdout\n{}\n--- stderr\n{}",
+            self.stdout,
+            self.stderr
+        );
+    }
+}
+
+/// Runs `antinode args...` with `dir` as the working folder (so a default `out/` would land there).
+fn antinode<I, S>(dir: &Path, args: I) -> Run
+where
+    I: IntoIterator<Item = S>,
+    S: AsRef<OsStr>,
+{
+    let out = Command::new(BIN)
+        .current_dir(dir)
+        .args(args)
+        .output()
+        .expect("the antinode binary runs");
+    Run {
+        code: out.status.code(),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
+fn temp() -> TempDir {
+    tempfile::tempdir().expect("a temporary folder")
+}
+
+/// A bundled example model, by file name.
+fn example(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../models")
+        .join(name)
+}
+
+/// Names of the entries of a folder (empty if it does not exist).
+fn entries(dir: &Path) -> BTreeSet<String> {
+    std::fs::read_dir(dir)
+        .into_iter()
+        .flatten()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .collect()
+}
+
+fn set(names: &[&str]) -> BTreeSet<String> {
+    names.iter().map(|s| s.to_string()).collect()
+}
+
+/// The number at `v`, failing the test with `what` if it is missing or not a number.
+fn num(v: &Value, what: &str) -> f64 {
+    v.as_f64()
+        .unwrap_or_else(|| panic!("{what} is missing or not a number: {v}"))
+}
+
+/// Asserts that `dir` holds exactly `names`, each a non-empty file.
+fn assert_files(dir: &Path, names: &[&str]) {
+    assert_eq!(
+        entries(dir),
+        set(names),
+        "files in {} (no temporary or extra files expected)",
+        dir.display()
+    );
+    for n in names {
+        let len = std::fs::metadata(dir.join(n)).map(|m| m.len()).unwrap_or(0);
+        assert!(len > 0, "{} is empty", dir.join(n).display());
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Happy path on the bundled examples
+// ---------------------------------------------------------------------------------------------
+
+/// `check --json`: counts and mass of a valid model.
+fn check_example(dir: &Path, model: &Path) {
+    let r = antinode(
+        dir,
+        [OsStr::new("check"), model.as_os_str(), "--json".as_ref()],
+    );
+    r.assert_success("check");
+    let j = r.json();
+    assert!(num(&j["total_mass_kg"], "check: total_mass_kg") > 0.0);
+    assert!(j["nodes"].as_u64().is_some_and(|n| n > 0), "check: nodes");
+    assert!(
+        j["free_dofs"].as_u64().is_some_and(|n| n > 0),
+        "check: free_dofs"
+    );
+    assert_eq!(
+        j["zero_energy_modes"].as_u64(),
+        Some(0),
+        "check: held model"
+    );
+    assert!(j["warnings"].is_array(), "check: warnings");
+    assert!(entries(dir).is_empty(), "check writes no file");
+}
+
+/// `modes --count 8 --json --out`: the contract fields and the files.
+fn modes_example(dir: &Path, model: &Path) {
+    let out = dir.join("modes-out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("modes"),
+            model.as_os_str(),
+            "--count".as_ref(),
+            "8".as_ref(),
+            "--json".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("modes");
+    let j = r.json();
+    assert!(num(&j["total_mass_kg"], "modes: total_mass_kg") > 0.0);
+    let modes = j["modes"].as_array().expect("modes: modes[] is an array");
+    assert_eq!(modes.len(), 8, "modes --count 8 gives 8 modes");
+    let mut previous = 0.0;
+    for (i, m) in modes.iter().enumerate() {
+        assert_eq!(
+            m["number"].as_u64(),
+            Some(i as u64 + 1),
+            "modes[{i}].number"
+        );
+        let f = num(&m["frequency_hz"], "modes[].frequency_hz");
+        assert!(
+            f > 0.0,
+            "modes[{i}].frequency_hz = {f} (the examples are held)"
+        );
+        // Non-strict: the round shafts have pairs of equal bending frequencies.
+        assert!(f >= previous, "modes[{i}].frequency_hz = {f} < {previous}");
+        previous = f;
+        for d in ["x", "y", "z"] {
+            let e = num(
+                &m["effective_mass_fraction"][d],
+                "modes[].effective_mass_fraction",
+            );
+            assert!(
+                (0.0..=1.0).contains(&e),
+                "modes[{i}].effective_mass_fraction.{d} = {e}"
+            );
+        }
+    }
+    let sturm = &j["sturm_check"];
+    assert!(
+        sturm.is_object(),
+        "modes: sturm_check is an object: {sturm}"
+    );
+    assert_eq!(
+        sturm["passed"].as_bool(),
+        Some(true),
+        "sturm_check: {sturm}"
+    );
+    assert_files(&out, &["modes.json", "modes.csv", "modes.vtu"]);
+    // The file holds the same report as standard output.
+    let file: Value = serde_json::from_str(
+        &std::fs::read_to_string(out.join("modes.json")).expect("modes.json is readable"),
+    )
+    .expect("modes.json is JSON");
+    assert_eq!(file["modes"], j["modes"], "modes.json and stdout agree");
+}
+
+/// `respond --json --out`: peaks and files.
+fn respond_example(dir: &Path, model: &Path, has_absorbers: bool) {
+    let out = dir.join("respond-out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond");
+    let j = r.json();
+    let before = num(&j["peak_before"], "respond: peak_before");
+    assert!(before > 0.0 && before.is_finite(), "peak_before = {before}");
+    let peaks = j["peaks_before"]
+        .as_array()
+        .expect("respond: peaks_before[]");
+    assert!(!peaks.is_empty(), "respond: at least one peak in the band");
+    let band = [num(&j["band_hz"][0], "band"), num(&j["band_hz"][1], "band")];
+    for p in peaks {
+        let f = num(&p["frequency_hz"], "peaks_before[].frequency_hz");
+        assert!(
+            f >= band[0] && f <= band[1],
+            "peak at {f} Hz outside {band:?}"
+        );
+        let v = num(&p["receptance"], "peaks_before[].receptance");
+        assert!(
+            v > 0.0 && v <= before * (1.0 + 1e-9),
+            "peak {v} above peak_before {before}"
+        );
+    }
+    if has_absorbers {
+        let after = num(&j["peak_after"], "respond: peak_after");
+        assert!(after > 0.0 && after.is_finite(), "peak_after = {after}");
+    } else {
+        assert!(
+            j["peak_after"].is_null(),
+            "no absorbers: peak_after is null"
+        );
+    }
+    assert_files(&out, &["response.csv", "response.json", "frf.svg"]);
+}
+
+/// `design --json --out`: the absorber contract, peak before and after, and the files. Returns the
+/// report.
+fn design_example(dir: &Path, model: &Path, out: &Path) -> Value {
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("design"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("design");
+    let j = r.json();
+    let m: Value = serde_json::from_str(&std::fs::read_to_string(model).expect("model readable"))
+        .expect("model is JSON");
+    let spec = &m["study"]["absorber_design"];
+    let count = spec["count"].as_u64().unwrap_or(1);
+    let mass_each = spec["mass_each"]
+        .as_f64()
+        .or_else(|| spec["total_mass"].as_f64().map(|t| t / count as f64))
+        .expect("the example gives the absorber mass");
+    let targets = j["targets"].as_array().expect("design: targets[]");
+    let absorbers = j["absorbers"].as_array().expect("design: absorbers[]");
+    assert_eq!(
+        absorbers.len() as u64,
+        count,
+        "design: as many absorbers as asked"
+    );
+    for (i, a) in absorbers.iter().enumerate() {
+        assert!(
+            a["location"]["node"].is_u64(),
+            "absorbers[{i}].location.node is an integer: {}",
+            a["location"]
+        );
+        let xyz = a["location"]["xyz"]
+            .as_array()
+            .expect("absorbers[].location.xyz is an array");
+        assert_eq!(xyz.len(), 3, "absorbers[{i}].location.xyz");
+        assert!(xyz.iter().all(|v| v.as_f64().is_some_and(f64::is_finite)));
+        let dir = &a["direction"];
+        assert!(
+            dir.as_str().is_some_and(|s| ["x", "y", "z"].contains(&s))
+                || dir.as_array().is_some_and(|v| v.len() == 3),
+            "absorbers[{i}].direction = {dir}"
+        );
+        let mass = num(&a["mass_kg"], "absorbers[].mass_kg");
+        assert!(
+            (mass - mass_each).abs() <= 1e-12 * mass_each,
+            "absorbers[{i}].mass_kg = {mass}, asked {mass_each}"
+        );
+        let k = num(&a["stiffness_n_per_m"], "absorbers[].stiffness_n_per_m");
+        assert!(
+            k > 0.0 && k.is_finite(),
+            "absorbers[{i}].stiffness_n_per_m = {k}"
+        );
+        let c = num(&a["damping_n_s_per_m"], "absorbers[].damping_n_s_per_m");
+        assert!(
+            c > 0.0 && c.is_finite(),
+            "absorbers[{i}].damping_n_s_per_m = {c}"
+        );
+        let f = num(&a["tuned_frequency_hz"], "absorbers[].tuned_frequency_hz");
+        let f_expected = (k / mass).sqrt() / (2.0 * std::f64::consts::PI);
+        assert!(
+            (f - f_expected).abs() <= 1e-9 * f_expected,
+            "absorbers[{i}].tuned_frequency_hz = {f}, sqrt(k/m)/2pi = {f_expected}"
+        );
+        let mode = a["target_mode"].as_u64().expect("absorbers[].target_mode");
+        let target = targets
+            .iter()
+            .find(|t| t["mode"].as_u64() == Some(mode))
+            .unwrap_or_else(|| panic!("absorbers[{i}].target_mode {mode} is not in targets[]"));
+        let f_mode = num(&target["frequency_hz"], "targets[].frequency_hz");
+        // A tuned absorber sits close below its mode (Den Hartog: f = 1/(1 + mu)); a factor of 1.5
+        // either way only catches a wrong mode or units.
+        assert!(
+            f > f_mode / 1.5 && f < f_mode * 1.5,
+            "absorbers[{i}] tuned to {f} Hz for mode {mode} at {f_mode} Hz"
+        );
+        let mu = num(&a["mass_ratio"], "absorbers[].mass_ratio");
+        assert!(mu > 0.0 && mu < 1.0, "absorbers[{i}].mass_ratio = {mu}");
+    }
+    let before = num(&j["peak_before"], "design: peak_before");
+    let after = num(&j["peak_after"], "design: peak_after");
+    assert!(before > 0.0 && before.is_finite(), "peak_before = {before}");
+    assert!(after > 0.0, "peak_after = {after}");
+    assert!(
+        after < before,
+        "peak_after {after} is not below peak_before {before}"
+    );
+    assert_files(
+        out,
+        &[
+            "design.json",
+            "design-result.json",
+            "design.csv",
+            "frf.svg",
+            "design.vtu",
+        ],
+    );
+    j
+}
+
+fn happy_path(model_name: &str, has_absorbers: bool) {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = example(model_name);
+    check_example(dir, &model);
+    modes_example(dir, &model);
+    respond_example(dir, &model, has_absorbers);
+    design_example(dir, &model, &dir.join("design-out"));
+    // Nothing went to the default out/ folder.
+    assert_eq!(
+        entries(dir),
+        set(&["modes-out", "respond-out", "design-out"]),
+        "only the --out folders are written"
+    );
+}
+
+#[test]
+fn happy_path_interface_example() {
+    happy_path("interface-example.json", true);
+}
+
+#[test]
+fn happy_path_fan_shaft() {
+    happy_path("fan-shaft.json", false);
+}
+
+/// The design.json written by `design` is a model; `respond` on it gives the design's peak after.
+fn round_trip(model_name: &str) {
+    let tmp = temp();
+    let dir = tmp.path();
+    let out = dir.join("design-out");
+    let design = design_example(dir, &example(model_name), &out);
+    let designed = out.join("design.json");
+    let check = antinode(dir, [OsStr::new("check"), designed.as_os_str()]);
+    check.assert_success("check of design.json");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            designed.as_os_str(),
+            "--json".as_ref(),
+            "--out".as_ref(),
+            dir.join("respond-out").as_os_str(),
+        ],
+    );
+    r.assert_success("respond on design.json");
+    let j = r.json();
+    let expected = num(&design["peak_after"], "design: peak_after");
+    let got = num(&j["peak_after"], "respond on design.json: peak_after");
+    // Both are the largest receptance over the band at the response points with the same
+    // absorbers; only the search for the maximum may differ in rounding.
+    assert!(
+        (got - expected).abs() <= 1e-6 * expected,
+        "respond on design.json: peak_after = {got}, design said {expected}"
+    );
+    let before = num(&design["peak_before"], "design: peak_before");
+    let got_before = num(&j["peak_before"], "respond: peak_before");
+    let absorbers_before = serde_json::from_str::<Value>(
+        &std::fs::read_to_string(example(model_name)).expect("model readable"),
+    )
+    .expect("model is JSON")["absorbers"]
+        .as_array()
+        .map_or(0, Vec::len);
+    if absorbers_before == 0 {
+        // Without absorbers in the original, the bare structure is the design's "before".
+        assert!(
+            (got_before - before).abs() <= 1e-6 * before,
+            "respond peak_before = {got_before}, design peak_before = {before}"
+        );
+    }
+}
+
+#[test]
+fn round_trip_interface_example() {
+    round_trip("interface-example.json");
+}
+
+#[test]
+fn round_trip_fan_shaft() {
+    round_trip("fan-shaft.json");
+}
+
+#[test]
+fn schema_prints_json_schema() {
+    let tmp = temp();
+    let r = antinode(tmp.path(), ["schema"]);
+    r.assert_success("schema");
+    let j = r.json();
+    assert!(
+        j.get("$schema").is_some(),
+        "schema output has a \"$schema\" key"
+    );
+    assert!(entries(tmp.path()).is_empty(), "schema writes no file");
+}
+
+// ---------------------------------------------------------------------------------------------
+// Bad input
+// ---------------------------------------------------------------------------------------------
+
+/// A small valid model using every block the bad-input tests break: a line and an explicit stub
+/// beam, supports, a point mass, an absorber and a study with a design request.
+fn base() -> Value {
+    json!({
+        "title": "Invented test model: aluminium tube on two pins with a stub carrying a mass",
+        "materials": {"al": {"youngs_modulus": 7.0e10, "poisson_ratio": 0.33, "density": 2700}},
+        "sections": {
+            "tube": {"circular_tube": {"outer_diameter": 0.05, "wall_thickness": 0.002}},
+            "rod": {"circle": {"diameter": 0.01}},
+            "bar": {"rectangle": {"width": 0.02, "height": 0.01}}
+        },
+        "nodes": [{"id": 1, "xyz": [0.5, 0, 0]}, {"id": 2, "xyz": [0.5, 0, 0.1]}],
+        "lines": [{"name": "shaft", "from": [0, 0, 0], "to": [1, 0, 0], "elements": 10,
+                   "section": "tube", "material": "al"}],
+        "beams": [{"id": 1, "nodes": [1, 2], "section": "bar", "material": "al"}],
+        "supports": [{"at": {"line": "shaft", "at": 0.0}, "fixed": ["ux", "uy", "uz", "rx"]},
+                     {"at": {"line": "shaft", "at": 1.0}, "fixed": ["uy", "uz"]}],
+        "point_masses": [{"at": {"node": 2}, "mass": 0.1}],
+        "absorbers": [{"name": "existing", "at": {"line": "shaft", "at": 0.3}, "direction": "z",
+                       "mass": 0.02, "stiffness": 2.0e4, "damping": 1.0}],
+        "study": {
+            "band_hz": [20, 400],
+            "excitation": [{"at": {"line": "shaft", "at": 0.3}, "direction": "z", "amplitude": 1.0}],
+            "response_points": [{"at": {"line": "shaft", "at": 0.3}, "direction": "z"}],
+            "absorber_design": {"count": 1, "mass_each": 0.05,
+                                "candidates": [{"line": "shaft", "from": 0.1, "to": 0.9}],
+                                "directions": ["z"]}
+        }
+    })
+}
+
+fn pretty(v: &Value) -> String {
+    serde_json::to_string_pretty(v).expect("JSON serialises")
+}
+
+/// Writes `text` as `model.json` into a fresh folder, runs each command on it (with
+/// `--out <folder>/out` where the command writes files) and checks that it fails cleanly: exit code
+/// 1 (no panic), a message on standard error naming the file and containing every `expect`
+/// fragment, and nothing written.
+fn assert_rejected(text: &str, commands: &[&str], expect: &[&str]) {
+    for command in commands {
+        let tmp = temp();
+        let dir = tmp.path();
+        let model = dir.join("model.json");
+        std::fs::write(&model, text).expect("model written");
+        let out = dir.join("out");
+        let mut args = vec![OsStr::new(*command), model.as_os_str()];
+        if *command != "check" {
+            args.extend([OsStr::new("--out"), out.as_os_str()]);
+        }
+        let r = antinode(dir, &args);
+        let context = format!(
+            "`antinode {command}` on\n{text}\n--- exit code {:?}\n--- stdout\n{}\n--- stderr\n{}",
+            r.code, r.stdout, r.stderr
+        );
+        assert!(!r.stderr.contains("panicked"), "panic: {context}");
+        assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
+        assert!(
+            r.stderr.starts_with("error: "),
+            "the message starts with `error: `: {context}"
+        );
+        assert!(
+            r.stderr.contains("model.json"),
+            "the message names the file: {context}"
+        );
+        for e in expect {
+            assert!(r.stderr.contains(e), "the message lacks {e:?}: {context}");
+        }
+        assert!(
+            entries(&out).is_empty(),
+            "files left in the out folder: {:?}; {context}",
+            entries(&out)
+        );
+        assert_eq!(
+            entries(dir),
+            set(&["model.json"]),
+            "files left in the working folder; {context}"
+        );
+    }
+}
+
+/// The base model with `edit` applied, rejected by `check` and `design`.
+fn assert_edit_rejected(edit: impl FnOnce(&mut Value), expect: &[&str]) {
+    let mut m = base();
+    edit(&mut m);
+    assert_rejected(&pretty(&m), &["check", "design"], expect);
+}
+
+#[test]
+fn base_model_of_bad_input_tests_is_valid() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&base())).expect("model written");
+    antinode(dir, [OsStr::new("check"), model.as_os_str()]).assert_success("check of base model");
+    let out = dir.join("out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("design"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("design of base model");
+    let j = r.json();
+    assert!(num(&j["peak_after"], "peak_after") < num(&j["peak_before"], "peak_before"));
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond of base model");
+}
+
+#[test]
+fn rejects_unknown_node_id() {
+    assert_edit_rejected(
+        |m| m["beams"][0]["nodes"][1] = json!(99),
+        &["beams[0].nodes[1]", "node 99", "does not exist"],
+    );
+    assert_edit_rejected(
+        |m| m["point_masses"][0]["at"] = json!({"node": 77}),
+        &["point_masses[0].at.node", "node 77", "does not exist"],
+    );
+}
+
+#[test]
+fn rejects_unknown_section_name() {
+    assert_edit_rejected(
+        |m| m["beams"][0]["section"] = json!("flat"),
+        &[
+            "beams[0].section",
+            "section \"flat\"",
+            "not defined",
+            "\"bar\"",
+        ],
+    );
+}
+
+#[test]
+fn rejects_unknown_material_name() {
+    assert_edit_rejected(
+        |m| m["lines"][0]["material"] = json!("steel"),
+        &[
+            "lines[0].material",
+            "material \"steel\"",
+            "not defined",
+            "\"al\"",
+        ],
+    );
+}
+
+#[test]
+fn rejects_duplicate_node_ids() {
+    assert_edit_rejected(
+        |m| {
+            m["nodes"]
+                .as_array_mut()
+                .expect("nodes")
+                .push(json!({"id": 1, "xyz": [0.2, 0, 0.1]}));
+        },
+        &["nodes[2]", "node 1", "defined twice", "nodes[0]"],
+    );
+}
+
+#[test]
+fn rejects_duplicate_beam_ids() {
+    assert_edit_rejected(
+        |m| {
+            m["beams"]
+                .as_array_mut()
+                .expect("beams")
+                .push(json!({"id": 1, "nodes": [2, 1], "section": "rod", "material": "al"}));
+        },
+        &["beams[1]", "beam 1", "defined twice", "beams[0]"],
+    );
+}
+
+#[test]
+fn rejects_duplicate_line_names() {
+    assert_edit_rejected(
+        |m| {
+            m["lines"].as_array_mut().expect("lines").push(json!({
+                "name": "shaft", "from": [0, 0, 0], "to": [0, 1, 0], "elements": 4,
+                "section": "tube", "material": "al"
+            }));
+        },
+        &["lines[1]", "line \"shaft\"", "defined twice", "lines[0]"],
+    );
+}
+
+#[test]
+fn rejects_non_positive_youngs_modulus() {
+    for e in [0.0, -7.0e10] {
+        assert_edit_rejected(
+            |m| m["materials"]["al"]["youngs_modulus"] = json!(e),
+            &[
+                "materials.al",
+                "youngs_modulus",
+                &format!("{e}"),
+                "positive",
+            ],
+        );
+    }
+}
+
+#[test]
+fn rejects_non_positive_density() {
+    for rho in [0.0, -2700.0] {
+        assert_edit_rejected(
+            |m| m["materials"]["al"]["density"] = json!(rho),
+            &["materials.al", "density", &format!("{rho}"), "positive"],
+        );
+    }
+}
+
+#[test]
+fn rejects_non_positive_dimension() {
+    assert_edit_rejected(
+        |m| m["sections"]["tube"]["circular_tube"]["wall_thickness"] = json!(0.0),
+        &["sections.tube", "wall_thickness", "= 0", "positive"],
+    );
+    assert_edit_rejected(
+        |m| m["sections"]["rod"]["circle"]["diameter"] = json!(-0.01),
+        &["sections.rod", "diameter", "-0.01", "positive"],
+    );
+    assert_edit_rejected(
+        |m| m["sections"]["bar"]["rectangle"]["height"] = json!(0.0),
+        &["sections.bar", "height", "= 0", "positive"],
+    );
+}
+
+#[test]
+fn rejects_tube_wall_thicker_than_radius() {
+    assert_edit_rejected(
+        |m| m["sections"]["tube"]["circular_tube"]["wall_thickness"] = json!(0.03),
+        &[
+            "sections.tube",
+            "wall_thickness",
+            "0.03",
+            "less than half the outer diameter",
+        ],
+    );
+    // Exactly the radius is a solid bar, not a tube.
+    assert_edit_rejected(
+        |m| m["sections"]["tube"]["circular_tube"]["wall_thickness"] = json!(0.025),
+        &[
+            "sections.tube",
+            "wall_thickness",
+            "0.025",
+            "less than half the outer diameter",
+        ],
+    );
+}
+
+#[test]
+fn rejects_poisson_ratio_outside_range() {
+    for nu in [0.5, 0.7, -1.0, -1.5] {
+        assert_edit_rejected(
+            |m| m["materials"]["al"]["poisson_ratio"] = json!(nu),
+            &[
+                "materials.al",
+                "poisson_ratio",
+                &format!("{nu}"),
+                "between -1 and 0.5",
+            ],
+        );
+    }
+}
+
+#[test]
+fn rejects_zero_length_beam() {
+    assert_edit_rejected(
+        |m| {
+            m["nodes"]
+                .as_array_mut()
+                .expect("nodes")
+                .push(json!({"id": 3, "xyz": [0.5, 0, 0.1]}));
+            m["beams"]
+                .as_array_mut()
+                .expect("beams")
+                .push(json!({"id": 2, "nodes": [2, 3], "section": "rod", "material": "al"}));
+        },
+        &["beams[1]", "beam 2", "nodes 2 and 3", "zero length"],
+    );
+}
+
+#[test]
+fn rejects_orientation_parallel_to_beam() {
+    // Beam 1 runs along global Z, from node 1 to node 2.
+    assert_edit_rejected(
+        |m| m["beams"][0]["orientation"] = json!([0, 0, 2]),
+        &[
+            "beams[0]",
+            "beam 1",
+            "orientation",
+            "parallel to the beam axis",
+        ],
+    );
+}
+
+#[test]
+fn rejects_absorber_with_non_positive_mass() {
+    for mass in [0.0, -0.02] {
+        assert_edit_rejected(
+            |m| m["absorbers"][0]["mass"] = json!(mass),
+            &["absorbers[0]", "mass", &format!("{mass}"), "positive"],
+        );
+    }
+}
+
+#[test]
+fn rejects_absorber_with_non_positive_stiffness() {
+    for k in [0.0, -2.0e4] {
+        assert_edit_rejected(
+            |m| m["absorbers"][0]["stiffness"] = json!(k),
+            &["absorbers[0]", "stiffness", &format!("{k}"), "positive"],
+        );
+    }
+}
+
+#[test]
+fn rejects_location_that_snaps_to_no_node() {
+    assert_edit_rejected(
+        |m| m["study"]["excitation"][0]["at"] = json!({"xyz": [0.5, 0.5, 0]}),
+        &[
+            "study.excitation[0].at.xyz",
+            "no node lies within",
+            "nearest",
+        ],
+    );
+}
+
+#[test]
+fn rejects_model_without_mass() {
+    let m = json!({
+        "title": "Invented test model: two nodes joined by springs, no mass",
+        "nodes": [{"id": 1, "xyz": [0, 0, 0]}, {"id": 2, "xyz": [1, 0, 0]}],
+        "springs": [{"at": {"node": 1}, "stiffness": {"ux": 1000, "uy": 1000, "uz": 1000}},
+                    {"at": {"node": 1}, "to": {"node": 2}, "stiffness": {"ux": 500}}]
+    });
+    assert_rejected(
+        &pretty(&m),
+        &["check", "design"],
+        &["no mass", "point_masses"],
+    );
+}
+
+#[test]
+fn rejects_unsupported_mechanism() {
+    // Both ends hold only uy and uz: the shaft can slide along x and spin about x.
+    let mut m = base();
+    m["supports"] = json!([
+        {"at": {"line": "shaft", "at": 0.0}, "fixed": ["uy", "uz"]},
+        {"at": {"line": "shaft", "at": 1.0}, "fixed": ["uy", "uz"]}
+    ]);
+    assert_rejected(
+        &pretty(&m),
+        &["check", "modes", "respond", "design"],
+        &[
+            "2 independent way(s)",
+            "0 expected",
+            "ux",
+            "rx",
+            "rigid_body_modes",
+        ],
+    );
+    // Only the axial slide is free.
+    m["supports"][0]["fixed"] = json!(["uy", "uz", "rx"]);
+    assert_rejected(
+        &pretty(&m),
+        &["check", "modes", "respond", "design"],
+        &[
+            "1 independent way(s)",
+            "0 expected",
+            "ux",
+            "rigid_body_modes",
+        ],
+    );
+    // Only the spin is free.
+    m["supports"][0]["fixed"] = json!(["ux", "uy", "uz"]);
+    assert_rejected(
+        &pretty(&m),
+        &["check", "modes", "respond", "design"],
+        &[
+            "1 independent way(s)",
+            "0 expected",
+            "rx",
+            "rigid_body_modes",
+        ],
+    );
+}
+
+#[test]
+fn accepts_stated_rigid_body_modes() {
+    // The same shaft free to slide and spin is accepted when the model says so.
+    let mut m = base();
+    m["supports"] = json!([
+        {"at": {"line": "shaft", "at": 0.0}, "fixed": ["uy", "uz"]},
+        {"at": {"line": "shaft", "at": 1.0}, "fixed": ["uy", "uz"]}
+    ]);
+    m["rigid_body_modes"] = json!(2);
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let r = antinode(
+        dir,
+        [OsStr::new("check"), model.as_os_str(), "--json".as_ref()],
+    );
+    r.assert_success("check with rigid_body_modes 2");
+    assert_eq!(r.json()["zero_energy_modes"].as_u64(), Some(2));
+}
+
+/// A failed write leaves none of the command's other files behind.
+#[test]
+fn failed_write_leaves_no_partial_output() {
+    for (command, blocked, others) in [
+        ("respond", "frf.svg", &["response.csv", "response.json"][..]),
+        (
+            "design",
+            "frf.svg",
+            &[
+                "design.json",
+                "design-result.json",
+                "design.csv",
+                "design.vtu",
+            ][..],
+        ),
+        ("modes", "modes.json", &["modes.csv", "modes.vtu"][..]),
+    ] {
+        let tmp = temp();
+        let dir = tmp.path();
+        let out = dir.join("out");
+        // A folder where one output file should go makes its write fail.
+        std::fs::create_dir_all(out.join(blocked)).expect("folder made");
+        let model = example("interface-example.json");
+        let r = antinode(
+            dir,
+            [
+                OsStr::new(command),
+                model.as_os_str(),
+                "--out".as_ref(),
+                out.as_os_str(),
+            ],
+        );
+        let context = format!(
+            "`antinode {command}` with {blocked} blocked\n--- stdout\n{}\n--- stderr\n{}",
+            r.stdout, r.stderr
+        );
+        assert!(!r.stderr.contains("panicked"), "panic: {context}");
+        assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
+        assert!(
+            r.stderr.contains(blocked),
+            "the message names {blocked}: {context}"
+        );
+        assert_eq!(
+            entries(&out),
+            set(&[blocked]),
+            "only the blocking folder is left, none of {others:?}: {context}"
+        );
+    }
+}
+
+#[test]
+fn rejects_malformed_json_with_line_and_column() {
+    // The nodes list lacks its closing bracket; the parser notices on line 4.
+    let text = "{\n  \"title\": \"Invented test model: a missing bracket\",\n  \"nodes\": [{\"id\": 1, \"xyz\": [0, 0, 0]},\n  \"springs\": []\n}\n";
+    assert_rejected(text, &["check", "design"], &["line 4, column"]);
+    // A document cut short.
+    let full = pretty(&base());
+    let cut = &full[..full.len() - 1];
+    assert_rejected(cut, &["check", "design"], &["line", "column", "EOF"]);
+}
+
+/// The line (from 1) of the first line of `text` containing `what`.
+fn line_of(text: &str, what: &str) -> usize {
+    text.lines()
+        .position(|l| l.contains(what))
+        .map(|i| i + 1)
+        .unwrap_or_else(|| panic!("{what} is not in the text"))
+}
+
+#[test]
+fn rejects_unknown_field() {
+    let mut m = base();
+    let materials = m["materials"].take();
+    let obj = m.as_object_mut().expect("object");
+    obj.remove("materials");
+    obj.insert("matrials".into(), materials);
+    let text = pretty(&m);
+    let line = format!("line {}, column", line_of(&text, "\"matrials\""));
+    assert_rejected(
+        &text,
+        &["check", "design"],
+        &["unknown field `matrials`", "`materials`", &line],
+    );
+    // Nested: the JSON path names the item.
+    let mut m = base();
+    m["absorbers"][0]["stifness"] = json!(1.0);
+    let text = pretty(&m);
+    let line = format!("line {}, column", line_of(&text, "\"stifness\""));
+    assert_rejected(
+        &text,
+        &["check", "design"],
+        &["absorbers[0]", "unknown field `stifness`", &line],
+    );
+}
+
+#[test]
+fn rejects_band_with_low_above_high() {
+    assert_edit_rejected(
+        |m| m["study"]["band_hz"] = json!([400, 20]),
+        &["study.band_hz", "[400, 20]", "low < high"],
+    );
+}
+
+#[test]
+fn respond_rejects_study_without_excitation() {
+    let mut m = base();
+    m["study"]
+        .as_object_mut()
+        .expect("study")
+        .remove("excitation");
+    assert_rejected(
+        &pretty(&m),
+        &["respond", "design"],
+        &["study.excitation", "no excitation"],
+    );
+}
