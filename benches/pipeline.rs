@@ -31,8 +31,8 @@ use std::time::{Duration, Instant};
 use antinode::mesh::{Structure, parse_model, validate};
 use antinode::placement::{StudyModel, design};
 use antinode::solver::{
-    AssemblyOptions, Coordinate, EigenParams, ModalModel, ModalSolution, ModeRequest, System,
-    assemble, check_zero_energy, solve_modes,
+    AssemblyOptions, Coordinate, EigenParams, ModalModel, ModalSolution, ModeRequest, System, assemble,
+    check_zero_energy, solve_modes,
 };
 use serde_json::{Value, json};
 
@@ -76,15 +76,8 @@ impl Timing {
         let mut s = samples.to_vec();
         s.sort();
         let n = s.len();
-        let median = if n % 2 == 1 {
-            s[n / 2]
-        } else {
-            (s[n / 2 - 1] + s[n / 2]) / 2
-        };
-        Self {
-            median,
-            min: s.first().copied().unwrap_or_default(),
-        }
+        let median = if n % 2 == 1 { s[n / 2] } else { (s[n / 2 - 1] + s[n / 2]) / 2 };
+        Self { median, min: s.first().copied().unwrap_or_default() }
     }
 }
 
@@ -108,10 +101,7 @@ fn repeat<T>(n: usize, mut f: impl FnMut() -> Res<T>) -> Res<(Timing, T)> {
 
 fn print_table(header: &[&str], rows: &[Vec<String>]) {
     println!("| {} |", header.join(" | "));
-    println!(
-        "|{}|",
-        header.iter().map(|_| "---").collect::<Vec<_>>().join("|")
-    );
+    println!("|{}|", header.iter().map(|_| "---").collect::<Vec<_>>().join("|"));
     for r in rows {
         println!("| {} |", r.join(" | "));
     }
@@ -219,13 +209,8 @@ fn frame(n: usize) -> Res<()> {
     let (t_validate, s) = repeat(n, || Ok(validate(&model)?))?;
     let (t_assemble, system) = repeat(n, || Ok(assemble(&s, AssemblyOptions::default())?))?;
     let (t_zero, zero) = repeat(n, || Ok(check_zero_energy(&s, &system)?))?;
-    let (t_modes, sol) = repeat(n, || {
-        Ok(solve_modes(
-            &system,
-            ModeRequest::Lowest(FRAME_MODES),
-            &EigenParams::default(),
-        )?)
-    })?;
+    let (t_modes, sol) =
+        repeat(n, || Ok(solve_modes(&system, ModeRequest::Lowest(FRAME_MODES), &EigenParams::default())?))?;
     let elements = s.beams.len() as f64;
     println!(
         "## a. Space frame: {} beam elements, {} nodes, {} free DOFs, {} stored entries of K, \
@@ -240,43 +225,18 @@ fn frame(n: usize) -> Res<()> {
     );
     let rate = |t: Duration| format!("{:.0}", elements / t.as_secs_f64());
     print_table(
+        &["stage", "median [ms]", "min [ms]", "rate (median) [elements/s]"],
         &[
-            "stage",
-            "median [ms]",
-            "min [ms]",
-            "rate (median) [elements/s]",
-        ],
-        &[
-            vec![
-                "parse JSON (`parse_model`)".into(),
-                ms(t_parse.median),
-                ms(t_parse.min),
-                rate(t_parse.median),
-            ],
-            vec![
-                "validate".into(),
-                ms(t_validate.median),
-                ms(t_validate.min),
-                rate(t_validate.median),
-            ],
+            vec!["parse JSON (`parse_model`)".into(), ms(t_parse.median), ms(t_parse.min), rate(t_parse.median)],
+            vec!["validate".into(), ms(t_validate.median), ms(t_validate.min), rate(t_validate.median)],
             vec![
                 "assemble (K, M, symbolic factorization)".into(),
                 ms(t_assemble.median),
                 ms(t_assemble.min),
                 rate(t_assemble.median),
             ],
-            vec![
-                "check_zero_energy".into(),
-                ms(t_zero.median),
-                ms(t_zero.min),
-                "".into(),
-            ],
-            vec![
-                format!("solve_modes, lowest {FRAME_MODES}"),
-                ms(t_modes.median),
-                ms(t_modes.min),
-                "".into(),
-            ],
+            vec!["check_zero_energy".into(), ms(t_zero.median), ms(t_zero.min), "".into()],
+            vec![format!("solve_modes, lowest {FRAME_MODES}"), ms(t_modes.median), ms(t_modes.min), "".into()],
         ],
     );
     print_solution(&sol);
@@ -309,11 +269,7 @@ fn print_solution(sol: &ModalSolution) {
             format!("{max_res:.1e}"),
             format!(
                 "{} ({} of {} below {:.2} Hz)",
-                if sol.sturm_check.passed {
-                    "passed"
-                } else {
-                    "FAILED"
-                },
+                if sol.sturm_check.passed { "passed" } else { "FAILED" },
                 sol.sturm_check.count_found,
                 sol.sturm_check.count_expected,
                 sol.sturm_check.shift_hz
@@ -352,24 +308,15 @@ fn design_once(model: &antinode::mesh::Model) -> Res<DesignRun> {
     };
     let structure = validate(model)?;
     lap(0, &mut t);
-    let study = structure
-        .study
-        .clone()
-        .ok_or("the shaft model has no study")?;
-    let spec = study
-        .design
-        .clone()
-        .ok_or("the shaft study has no design")?;
+    let study = structure.study.clone().ok_or("the shaft model has no study")?;
+    let spec = study.design.clone().ok_or("the shaft study has no design")?;
     let system = assemble(&structure, AssemblyOptions::default())?;
     lap(1, &mut t);
     check_zero_energy(&structure, &system)?;
     lap(2, &mut t);
     let modes = solve_modes(
         &system,
-        ModeRequest::Band {
-            low_hz: 0.0,
-            high_hz: study.max_mode_frequency_hz,
-        },
+        ModeRequest::Band { low_hz: 0.0, high_hz: study.max_mode_frequency_hz },
         &EigenParams::default(),
     )?;
     lap(3, &mut t);
@@ -378,15 +325,7 @@ fn design_once(model: &antinode::mesh::Model) -> Res<DesignRun> {
     let d = design(&sm, &spec, &structure)?;
     lap(5, &mut t);
     let total = start.elapsed();
-    Ok(DesignRun {
-        stages,
-        total,
-        structure,
-        system,
-        modes,
-        sm,
-        design: d,
-    })
+    Ok(DesignRun { stages, total, structure, system, modes, sm, design: d })
 }
 
 /// The explicit targets: for each of the lowest bending frequencies (modes within a relative
@@ -396,9 +335,7 @@ fn design_once(model: &antinode::mesh::Model) -> Res<DesignRun> {
 fn z_bending_targets(run: &DesignRun) -> Res<Vec<usize>> {
     let uz = drive_uz(run);
     let top = uz.iter().copied().fold(0.0, f64::max);
-    let f: Vec<f64> = (0..run.modes.n_modes())
-        .map(|r| run.modes.frequency_hz(r))
-        .collect();
+    let f: Vec<f64> = (0..run.modes.n_modes()).map(|r| run.modes.frequency_hz(r)).collect();
     let mut targets = Vec::new();
     let mut r = run.modes.n_zero_energy;
     while r < f.len() && targets.len() < ABSORBERS {
@@ -406,9 +343,7 @@ fn z_bending_targets(run: &DesignRun) -> Res<Vec<usize>> {
         while end < f.len() && (f[end] - f[r]).abs() <= 1e-4 * f[r] {
             end += 1;
         }
-        let best = (r..end)
-            .max_by(|&a, &b| uz[a].total_cmp(&uz[b]))
-            .ok_or("empty mode group")?;
+        let best = (r..end).max_by(|&a, &b| uz[a].total_cmp(&uz[b])).ok_or("empty mode group")?;
         if uz[best] > 1e-3 * top {
             targets.push(best + 1);
         }
@@ -422,15 +357,9 @@ fn z_bending_targets(run: &DesignRun) -> Res<Vec<usize>> {
 
 /// |uz| of every kept mode at the drive point.
 fn drive_uz(run: &DesignRun) -> Vec<f64> {
-    let node = run
-        .structure
-        .study
-        .as_ref()
-        .map_or(0, |s| s.excitation[0].node);
+    let node = run.structure.study.as_ref().map_or(0, |s| s.excitation[0].node);
     let dof = run.system.dof_map().dof(node, 2);
-    (0..run.modes.n_modes())
-        .map(|r| dof.map_or(0.0, |i| run.modes.shape(r)[i].abs()))
-        .collect()
+    (0..run.modes.n_modes()).map(|r| dof.map_or(0.0, |i| run.modes.shape(r)[i].abs())).collect()
 }
 
 fn design_runs(n: usize, text: &str) -> Res<(Vec<DesignRun>, Timing)> {
@@ -452,10 +381,7 @@ fn stage_table(runs: &[DesignRun], total: Timing) {
             (*name).to_string(),
             ms(t.median),
             ms(t.min),
-            format!(
-                "{:.1}",
-                100.0 * t.median.as_secs_f64() / total.median.as_secs_f64()
-            ),
+            format!("{:.1}", 100.0 * t.median.as_secs_f64() / total.median.as_secs_f64()),
         ]);
     }
     rows.push(vec![
@@ -464,22 +390,10 @@ fn stage_table(runs: &[DesignRun], total: Timing) {
         format!("**{}**", ms(total.min)),
         "100".into(),
     ]);
-    print_table(
-        &[
-            "stage",
-            "median [ms]",
-            "min [ms]",
-            "share of median total [%]",
-        ],
-        &rows,
-    );
+    print_table(&["stage", "median [ms]", "min [ms]", "share of median total [%]"], &rows);
     println!(
         "target: whole design run under 1000 ms: {} (median {} ms, min {} ms)\n",
-        if total.median < Duration::from_secs(1) {
-            "met"
-        } else {
-            "NOT met"
-        },
+        if total.median < Duration::from_secs(1) { "met" } else { "NOT met" },
         ms(total.median),
         ms(total.min)
     );
@@ -498,15 +412,7 @@ fn targets_table(d: &antinode::placement::Design) {
             ]
         })
         .collect();
-    print_table(
-        &[
-            "target mode",
-            "frequency [Hz]",
-            "window [Hz]",
-            "modal peak [m/N]",
-        ],
-        &rows,
-    );
+    print_table(&["target mode", "frequency [Hz]", "window [Hz]", "modal peak [m/N]"], &rows);
     println!(
         "peak receptance: before {:.3e} m/N at {:.2} Hz, after {:.3e} m/N at {:.2} Hz ({:+.1} dB)\n",
         d.before.receptance,
@@ -564,11 +470,7 @@ fn shaft(n: usize) -> Res<()> {
 /// The kept modes of the shaft: frequency, relative gap to the previous eigenvalue, mode shape
 /// along y and z at the drive point, residual.
 fn print_shaft_modes(run: &DesignRun) {
-    let node = run
-        .structure
-        .study
-        .as_ref()
-        .map_or(0, |s| s.excitation[0].node);
+    let node = run.structure.study.as_ref().map_or(0, |s| s.excitation[0].node);
     let dof = run.system.dof_map();
     let lambda = &run.modes.eigenvalues;
     let rows: Vec<Vec<String>> = (0..run.modes.n_modes())
@@ -578,11 +480,7 @@ fn print_shaft_modes(run: &DesignRun) {
             vec![
                 (r + 1).to_string(),
                 format!("{:.3}", run.modes.frequency_hz(r)),
-                if r == 0 {
-                    String::new()
-                } else {
-                    format!("{:.1e}", (lambda[r] - lambda[r - 1]) / lambda[r])
-                },
+                if r == 0 { String::new() } else { format!("{:.1e}", (lambda[r] - lambda[r - 1]) / lambda[r]) },
                 format!("{:+.3e}", at(1)),
                 format!("{:+.3e}", at(2)),
                 format!("{:.1e}", run.modes.residuals[r]),
@@ -590,17 +488,7 @@ fn print_shaft_modes(run: &DesignRun) {
         })
         .collect();
     println!("kept modes of the shaft (shape at the drive point, mass-normalised):\n");
-    print_table(
-        &[
-            "mode",
-            "f [Hz]",
-            "(λ_r - λ_r-1)/λ_r",
-            "uy [kg^-1/2]",
-            "uz [kg^-1/2]",
-            "residual",
-        ],
-        &rows,
-    );
+    print_table(&["mode", "f [Hz]", "(λ_r - λ_r-1)/λ_r", "uy [kg^-1/2]", "uz [kg^-1/2]", "residual"], &rows);
 }
 
 /// Where the time of `StudyModel::build` goes (the modal model with and without residual
@@ -610,42 +498,17 @@ fn design_breakdown(run: &DesignRun, n: usize) -> Res<()> {
     let study = run.structure.study.as_ref().ok_or("no study")?;
     let mut coords: Vec<Coordinate> = Vec::new();
     for f in &study.excitation {
-        coords.push(Coordinate {
-            node: f.node,
-            direction: f.direction.unit,
-        });
+        coords.push(Coordinate { node: f.node, direction: f.direction.unit });
     }
     for r in &study.response_points {
-        coords.push(Coordinate {
-            node: r.node,
-            direction: r.direction.unit,
-        });
+        coords.push(Coordinate { node: r.node, direction: r.direction.unit });
     }
     for c in &sm.candidates {
-        coords.push(Coordinate {
-            node: c.node,
-            direction: c.direction.unit,
-        });
+        coords.push(Coordinate { node: c.node, direction: c.direction.unit });
     }
     let zeta = study.modal_damping_ratio;
-    let (t_res, _) = repeat(n, || {
-        Ok(ModalModel::build(
-            &run.system,
-            &run.modes,
-            &coords,
-            zeta,
-            true,
-        )?)
-    })?;
-    let (t_nores, _) = repeat(n, || {
-        Ok(ModalModel::build(
-            &run.system,
-            &run.modes,
-            &coords,
-            zeta,
-            false,
-        )?)
-    })?;
+    let (t_res, _) = repeat(n, || Ok(ModalModel::build(&run.system, &run.modes, &coords, zeta, true)?))?;
+    let (t_nores, _) = repeat(n, || Ok(ModalModel::build(&run.system, &run.modes, &coords, zeta, false)?))?;
     let r = run.design.refinement;
     println!(
         "breakdown (diagnostic; {} coordinates in the modal model, {} grid frequencies over the band):\n",

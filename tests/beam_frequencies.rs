@@ -3,9 +3,7 @@
 //! equation, and invariance under rotation of the whole model.
 
 mod common;
-use antinode::solver::{
-    EigenParams, Method, ModalSolution, ModeRequest, System, solve_modes, solve_static,
-};
+use antinode::solver::{EigenParams, Method, ModalSolution, ModeRequest, System, solve_modes, solve_static};
 use common::*;
 
 /// Rectangle 50 mm wide (local z = global Y with the default orientation) and 10 mm high (local y =
@@ -27,10 +25,7 @@ fn z_modes(sol: &ModalSolution, sys: &System, n: usize) -> Vec<f64> {
     for i in sol.n_zero_energy..sol.n_modes() {
         let nodes = map.expand(sol.shape(i));
         let z: f64 = nodes.iter().map(|d| d[2] * d[2]).sum();
-        let all: f64 = nodes
-            .iter()
-            .map(|d| d[0] * d[0] + d[1] * d[1] + d[2] * d[2])
-            .sum();
+        let all: f64 = nodes.iter().map(|d| d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sum();
         if all > 0.0 && z / all > 0.999 {
             out.push(sol.frequency_hz(i));
         }
@@ -52,11 +47,7 @@ fn check_bending(supports: &str, beta_l: [f64; 3], what: &str) {
     let (sys, sol) = lowest(&s, 12);
     assert!(sol.sturm_check.passed, "{what}: {:?}", sol.sturm_check);
     let f = z_modes(&sol, &sys, 3);
-    assert_eq!(
-        f.len(),
-        3,
-        "{what}: three bending modes in X-Z expected among the lowest 12"
-    );
+    assert_eq!(f.len(), 3, "{what}: three bending modes in X-Z expected among the lowest 12");
     for (n, (got, bl)) in f.iter().zip(beta_l).enumerate() {
         let want = bl * bl * bar_factor();
         // Cubic Hermite elements with consistent mass converge as h⁴; with 40 elements the error of
@@ -68,22 +59,14 @@ fn check_bending(supports: &str, beta_l: [f64; 3], what: &str) {
 // Roots β_nL of the characteristic equations (Thomson, Theory of Vibration with Applications,
 // Table 9.5-1 and Appendix D give them to 4-5 digits; the 10-digit values solve sin βL = 0,
 // cos βL cosh βL = ±1 and tan βL = tanh βL).
-const SS: [f64; 3] = [
-    std::f64::consts::PI,
-    2.0 * std::f64::consts::PI,
-    3.0 * std::f64::consts::PI,
-];
+const SS: [f64; 3] = [std::f64::consts::PI, 2.0 * std::f64::consts::PI, 3.0 * std::f64::consts::PI];
 const CC: [f64; 3] = [4.730040745, 7.853204624, 10.99560784];
 const CF: [f64; 3] = [1.875104069, 4.694091133, 7.854757438];
 const CP: [f64; 3] = [3.926602312, 7.068582746, 10.21017612];
 
 #[test]
 fn pinned_pinned_bending() {
-    check_bending(
-        &format!("[{PINNED_LEFT}, {PINNED_RIGHT}]"),
-        SS,
-        "pinned-pinned",
-    );
+    check_bending(&format!("[{PINNED_LEFT}, {PINNED_RIGHT}]"), SS, "pinned-pinned");
 }
 
 #[test]
@@ -93,20 +76,12 @@ fn clamped_free_bending() {
 
 #[test]
 fn clamped_clamped_bending() {
-    check_bending(
-        &format!("[{CLAMPED_LEFT}, {CLAMPED_RIGHT}]"),
-        CC,
-        "clamped-clamped",
-    );
+    check_bending(&format!("[{CLAMPED_LEFT}, {CLAMPED_RIGHT}]"), CC, "clamped-clamped");
 }
 
 #[test]
 fn clamped_pinned_bending() {
-    check_bending(
-        &format!("[{CLAMPED_LEFT}, {PINNED_RIGHT}]"),
-        CP,
-        "clamped-pinned",
-    );
+    check_bending(&format!("[{CLAMPED_LEFT}, {PINNED_RIGHT}]"), CP, "clamped-pinned");
 }
 
 #[test]
@@ -134,10 +109,7 @@ fn axial_and_torsion(sol: &ModalSolution, sys: &System) -> (Vec<f64>, Vec<f64>) 
     for i in sol.n_zero_energy..sol.n_modes() {
         let d = sys.dof_map().expand(sol.shape(i));
         let ux: f64 = d.iter().map(|v| v[0] * v[0]).sum();
-        let lateral: f64 = d
-            .iter()
-            .map(|v| v[1] * v[1] + v[2] * v[2] + v[4] * v[4] + v[5] * v[5])
-            .sum();
+        let lateral: f64 = d.iter().map(|v| v[1] * v[1] + v[2] * v[2] + v[4] * v[4] + v[5] * v[5]).sum();
         let rx: f64 = d.iter().map(|v| v[3] * v[3]).sum();
         if lateral < 1e-12 * (ux + rx) {
             if rx < 1e-12 * ux {
@@ -158,50 +130,22 @@ fn axial_and_torsion_modes_of_a_tube() {
     let l = 2.0;
     let (cl, ct) = ((e / rho).sqrt(), (g / rho).sqrt());
     for (supports, fixed_free) in [("[]", false), (CLAMPED_LEFT, true)] {
-        let supports = if fixed_free {
-            format!("[{supports}]")
-        } else {
-            supports.to_string()
-        };
+        let supports = if fixed_free { format!("[{supports}]") } else { supports.to_string() };
         let s = structure(&beam_model(TUBE, 100, l, &supports, STEEL));
         let sys = system(&s);
-        let params = EigenParams {
-            method: Method::Lanczos,
-            ..EigenParams::default()
-        };
-        let sol = solve_modes(
-            &sys,
-            ModeRequest::Band {
-                low_hz: 0.0,
-                high_hz: 4000.0,
-            },
-            &params,
-        )
-        .unwrap_or_else(|e| panic!("{e}"));
+        let params = EigenParams { method: Method::Lanczos, ..EigenParams::default() };
+        let sol = solve_modes(&sys, ModeRequest::Band { low_hz: 0.0, high_hz: 4000.0 }, &params)
+            .unwrap_or_else(|e| panic!("{e}"));
         let (axial, torsion) = axial_and_torsion(&sol, &sys);
         for n in 1..=3 {
             // Thomson §9.2 (rod, f = n c/(2L) free-free, (2n−1) c/(4L) fixed-free) and §9.3 (torsion,
             // the same with c_T = √(G/ρ) for a circular section); worked values of the reference
             // sheet §2.4: torsion free-free 801.915 Hz, axial fixed-free 646.524 Hz for n = 1.
-            let k = if fixed_free {
-                (2 * n - 1) as f64 / 4.0
-            } else {
-                n as f64 / 2.0
-            };
+            let k = if fixed_free { (2 * n - 1) as f64 / 4.0 } else { n as f64 / 2.0 };
             let (fa, ft) = (k * cl / l, k * ct / l);
             // Linear elements, consistent mass: error ≈ (kL/N)²/24 ≤ 0.04 % here; 0.1 % tolerance.
-            assert_rel(
-                axial[n - 1],
-                fa,
-                1e-3,
-                &format!("axial mode {n}, fixed-free {fixed_free}"),
-            );
-            assert_rel(
-                torsion[n - 1],
-                ft,
-                1e-3,
-                &format!("torsion mode {n}, fixed-free {fixed_free}"),
-            );
+            assert_rel(axial[n - 1], fa, 1e-3, &format!("axial mode {n}, fixed-free {fixed_free}"));
+            assert_rel(torsion[n - 1], ft, 1e-3, &format!("torsion mode {n}, fixed-free {fixed_free}"));
         }
         if !fixed_free {
             assert_rel(torsion[0], 801.915, 1e-3, "torsion free-free worked value");
@@ -222,31 +166,17 @@ fn cantilever_tip_deflection_with_and_without_shear() {
     let g = e / (2.0 * (1.0 + nu));
     let i = b * h * h * h / 12.0;
     for shear in [false, true] {
-        let section = format!(
-            r#"{{"rectangle": {{"width": {b}, "height": {h}, "shear_deformation": {shear}}}}}"#
-        );
-        let s = structure(&beam_model(
-            &section,
-            4,
-            l,
-            &format!("[{CLAMPED_LEFT}]"),
-            STEEL,
-        ));
+        let section = format!(r#"{{"rectangle": {{"width": {b}, "height": {h}, "shear_deformation": {shear}}}}}"#);
+        let s = structure(&beam_model(&section, 4, l, &format!("[{CLAMPED_LEFT}]"), STEEL));
         let sys = system(&s);
         let tip = s.lines[0].nodes[4];
-        let u = solve_static(&sys, &[(tip, [0.0, 0.0, p, 0.0, 0.0, 0.0])])
-            .unwrap_or_else(|e| panic!("{e}"));
+        let u = solve_static(&sys, &[(tip, [0.0, 0.0, p, 0.0, 0.0, 0.0])]).unwrap_or_else(|e| panic!("{e}"));
         let kappa = 10.0 * (1.0 + nu) / (12.0 + 11.0 * nu);
         let mut want = p * l.powi(3) / (3.0 * e * i);
         if shear {
             want += p * l / (kappa * g * b * h);
         }
-        assert_rel(
-            u[tip][2],
-            want,
-            1e-9,
-            &format!("tip deflection, shear {shear}"),
-        );
+        assert_rel(u[tip][2], want, 1e-9, &format!("tip deflection, shear {shear}"));
     }
 }
 
@@ -261,15 +191,8 @@ fn timoshenko_beam_frequency_equation() {
     let g = e / (2.0 * (1.0 + nu));
     let kappa = 10.0 * (1.0 + nu) / (12.0 + 11.0 * nu);
     let (a, i) = (b * h, b * h * h * h / 12.0);
-    let section =
-        format!(r#"{{"rectangle": {{"width": {b}, "height": {h}, "shear_deformation": true}}}}"#);
-    let s = structure(&beam_model(
-        &section,
-        80,
-        l,
-        &format!("[{PINNED_LEFT}, {PINNED_RIGHT}]"),
-        STEEL,
-    ));
+    let section = format!(r#"{{"rectangle": {{"width": {b}, "height": {h}, "shear_deformation": true}}}}"#);
+    let s = structure(&beam_model(&section, 80, l, &format!("[{PINNED_LEFT}, {PINNED_RIGHT}]"), STEEL));
     let (sys, sol) = lowest(&s, 12);
     let f = z_modes(&sol, &sys, 2);
     for n in 1..=2 {
@@ -279,19 +202,10 @@ fn timoshenko_beam_frequency_equation() {
         let qc = e * i * k.powi(4);
         let w2 = (-qb - (qb * qb - 4.0 * qa * qc).sqrt()) / (2.0 * qa);
         // 80 elements: converged to well below 0.1 %.
-        assert_rel(
-            f[n - 1],
-            w2.sqrt() / (2.0 * std::f64::consts::PI),
-            1e-3,
-            &format!("Timoshenko mode {n}"),
-        );
+        assert_rel(f[n - 1], w2.sqrt() / (2.0 * std::f64::consts::PI), 1e-3, &format!("Timoshenko mode {n}"));
         let eb = (n as f64 * std::f64::consts::PI).powi(2) / (2.0 * std::f64::consts::PI * l * l)
             * (e * i / (rho * a)).sqrt();
-        assert!(
-            f[n - 1] < 0.97 * eb,
-            "shear and rotary inertia must lower the frequency: {} vs {eb}",
-            f[n - 1]
-        );
+        assert!(f[n - 1] < 0.97 * eb, "shear and rotary inertia must lower the frequency: {} vs {eb}", f[n - 1]);
     }
 }
 
@@ -331,21 +245,9 @@ fn frequencies_do_not_depend_on_the_orientation_of_the_model() {
     // Physics is invariant under a rigid rotation of the whole model (common practice).
     let identity = [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]];
     let (a, b, c) = (0.3f64, -1.1f64, 0.7f64);
-    let rx = [
-        [1.0, 0.0, 0.0],
-        [0.0, a.cos(), -a.sin()],
-        [0.0, a.sin(), a.cos()],
-    ];
-    let ry = [
-        [b.cos(), 0.0, b.sin()],
-        [0.0, 1.0, 0.0],
-        [-b.sin(), 0.0, b.cos()],
-    ];
-    let rz = [
-        [c.cos(), -c.sin(), 0.0],
-        [c.sin(), c.cos(), 0.0],
-        [0.0, 0.0, 1.0],
-    ];
+    let rx = [[1.0, 0.0, 0.0], [0.0, a.cos(), -a.sin()], [0.0, a.sin(), a.cos()]];
+    let ry = [[b.cos(), 0.0, b.sin()], [0.0, 1.0, 0.0], [-b.sin(), 0.0, b.cos()]];
+    let rz = [[c.cos(), -c.sin(), 0.0], [c.sin(), c.cos(), 0.0], [0.0, 0.0, 1.0]];
     let mul = |x: [[f64; 3]; 3], y: [[f64; 3]; 3]| {
         let mut z = [[0.0; 3]; 3];
         for i in 0..3 {
@@ -359,11 +261,6 @@ fn frequencies_do_not_depend_on_the_orientation_of_the_model() {
     let (_, s0) = lowest(&structure(&frame_json(&identity)), 15);
     let (_, s1) = lowest(&structure(&frame_json(&r)), 15);
     for i in 0..15 {
-        assert_rel(
-            s1.eigenvalues[i],
-            s0.eigenvalues[i],
-            1e-9,
-            &format!("eigenvalue {} after rotation", i + 1),
-        );
+        assert_rel(s1.eigenvalues[i], s0.eigenvalues[i], 1e-9, &format!("eigenvalue {} after rotation", i + 1));
     }
 }

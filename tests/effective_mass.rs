@@ -17,10 +17,7 @@ fn z_fractions(json: &str, n: usize) -> Vec<f64> {
         .filter(|&i| {
             let d = sys.dof_map().expand(sol.shape(i));
             let z: f64 = d.iter().map(|v| v[2] * v[2]).sum();
-            let all: f64 = d
-                .iter()
-                .map(|v| v[0] * v[0] + v[1] * v[1] + v[2] * v[2])
-                .sum();
+            let all: f64 = d.iter().map(|v| v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sum();
             z > 0.999 * all
         })
         .take(n)
@@ -33,16 +30,10 @@ fn cantilever_effective_masses() {
     // m_eff,n / m = (∫φ_n dx)² / (L ∫φ_n² dx) = 4σ_n²/(β_nL)² for a uniform cantilever, with σ_n the
     // mode-shape constants: 0.613076, 0.188300, 0.064732 (closed form evaluated to 6 digits; the
     // rounded 61.3 %, 18.8 %, 6.5 % are those of Irvine's effective-modal-mass tutorial — from memory).
-    let f = z_fractions(
-        &beam_model(BAR, 40, 1.0, &format!("[{CLAMPED_LEFT}]"), STEEL),
-        3,
-    );
+    let f = z_fractions(&beam_model(BAR, 40, 1.0, &format!("[{CLAMPED_LEFT}]"), STEEL), 3);
     // 40 elements: the reference sheet expects 1e-4 absolute.
     for (got, want) in f.iter().zip([0.613076, 0.188300, 0.064732]) {
-        assert!(
-            (got - want).abs() < 1e-4,
-            "cantilever effective mass fraction {got} vs {want}"
-        );
+        assert!((got - want).abs() < 1e-4, "cantilever effective mass fraction {got} vs {want}");
     }
 }
 
@@ -60,10 +51,7 @@ fn simply_supported_effective_masses() {
     );
     let f = z_fractions(&json, 3);
     for (got, want) in f.iter().zip([0.810569, 0.0, 0.090063]) {
-        assert!(
-            (got - want).abs() < 1e-4,
-            "simply supported effective mass fraction {got} vs {want}"
-        );
+        assert!((got - want).abs() < 1e-4, "simply supported effective mass fraction {got} vs {want}");
     }
 }
 
@@ -77,21 +65,13 @@ fn sums_over_all_modes_equal_the_mass() {
     let sol = solve_modes(
         &sys,
         ModeRequest::Lowest(sys.n_dofs()),
-        &EigenParams {
-            method: Method::Dense,
-            ..EigenParams::default()
-        },
+        &EigenParams { method: Method::Dense, ..EigenParams::default() },
     )
     .unwrap_or_else(|e| panic!("{e}"));
     let l = participation(&sys, &sol);
     for d in 0..3 {
         let sum: f64 = l.iter().map(|v| v[d] * v[d]).sum();
-        assert_rel(
-            sum,
-            s.total_mass(),
-            1e-10,
-            &format!("free body: sum of effective masses, direction {d}"),
-        );
+        assert_rel(sum, s.total_mass(), 1e-10, &format!("free body: sum of effective masses, direction {d}"));
     }
 }
 
@@ -102,21 +82,12 @@ fn supported_sums_stay_between_the_free_mass_and_the_total() {
     // (common practice: that mass stays with the supports).
     let mut deficits = Vec::new();
     for n in [20, 80] {
-        let s = structure(&beam_model(
-            BAR,
-            n,
-            1.0,
-            &format!("[{CLAMPED_LEFT}]"),
-            STEEL,
-        ));
+        let s = structure(&beam_model(BAR, n, 1.0, &format!("[{CLAMPED_LEFT}]"), STEEL));
         let sys = system(&s);
         let sol = solve_modes(
             &sys,
             ModeRequest::Lowest(sys.n_dofs()),
-            &EigenParams {
-                method: Method::Dense,
-                ..EigenParams::default()
-            },
+            &EigenParams { method: Method::Dense, ..EigenParams::default() },
         )
         .unwrap_or_else(|e| panic!("{e}"));
         let l = participation(&sys, &sol);

@@ -9,15 +9,7 @@ use antinode::solver::{
 use common::*;
 
 fn solve(sys: &System, request: ModeRequest, method: Method) -> ModalSolution {
-    solve_modes(
-        sys,
-        request,
-        &EigenParams {
-            method,
-            ..EigenParams::default()
-        },
-    )
-    .unwrap_or_else(|e| panic!("{e}"))
+    solve_modes(sys, request, &EigenParams { method, ..EigenParams::default() }).unwrap_or_else(|e| panic!("{e}"))
 }
 
 fn m_dot(sys: &System, a: &[f64], b: &[f64]) -> f64 {
@@ -29,18 +21,12 @@ fn m_dot(sys: &System, a: &[f64], b: &[f64]) -> f64 {
 /// M-projection of the sparse vector on the dense modes of its eigenvalue cluster has unit norm.
 fn compare(sys: &System, sparse: &ModalSolution, dense: &ModalSolution, what: &str) {
     assert_eq!(sparse.n_modes(), dense.n_modes(), "{what}: number of modes");
-    assert_eq!(
-        sparse.n_zero_energy, dense.n_zero_energy,
-        "{what}: zero-energy modes"
-    );
+    assert_eq!(sparse.n_zero_energy, dense.n_zero_energy, "{what}: zero-energy modes");
     let scale = dense.eigenvalues.last().copied().unwrap_or(1.0).abs();
     for i in 0..sparse.n_modes() {
         let (a, b) = (sparse.eigenvalues[i], dense.eigenvalues[i]);
         if i < dense.n_zero_energy {
-            assert!(
-                a.abs() < 1e-9 * scale && b.abs() < 1e-9 * scale,
-                "{what}: zero mode {i}: {a} {b}"
-            );
+            assert!(a.abs() < 1e-9 * scale && b.abs() < 1e-9 * scale, "{what}: zero mode {i}: {a} {b}");
         } else {
             assert_rel(a, b, 1e-9, &format!("{what}: eigenvalue {}", i + 1));
         }
@@ -54,38 +40,17 @@ fn compare(sys: &System, sparse: &ModalSolution, dense: &ModalSolution, what: &s
                 }
             })
             .collect();
-        let proj: f64 = cluster
-            .iter()
-            .map(|&j| m_dot(sys, sparse.shape(i), dense.shape(j)).powi(2))
-            .sum();
-        assert!(
-            (proj - 1.0).abs() < 1e-8,
-            "{what}: mode {} lies outside the dense eigenspace ({proj})",
-            i + 1
-        );
+        let proj: f64 = cluster.iter().map(|&j| m_dot(sys, sparse.shape(i), dense.shape(j)).powi(2)).sum();
+        assert!((proj - 1.0).abs() < 1e-8, "{what}: mode {} lies outside the dense eigenspace ({proj})", i + 1);
     }
-    assert!(
-        sparse.orthogonality_error < 1e-10,
-        "{what}: orthogonality {}",
-        sparse.orthogonality_error
-    );
-    assert!(
-        sparse.sturm_check.passed,
-        "{what}: {:?}",
-        sparse.sturm_check
-    );
+    assert!(sparse.orthogonality_error < 1e-10, "{what}: orthogonality {}", sparse.orthogonality_error);
+    assert!(sparse.sturm_check.passed, "{what}: {:?}", sparse.sturm_check);
 }
 
 #[test]
 fn cantilever_tube_with_exact_pairs() {
     let tube = r#"{"circular_tube": {"outer_diameter": 0.1, "wall_thickness": 0.005}}"#;
-    let s = structure(&beam_model(
-        tube,
-        30,
-        2.0,
-        r#"[{"at": {"line": "beam", "at": 0}, "fixed": "clamped"}]"#,
-        STEEL,
-    ));
+    let s = structure(&beam_model(tube, 30, 2.0, r#"[{"at": {"line": "beam", "at": 0}, "fixed": "clamped"}]"#, STEEL));
     let sys = system(&s);
     let sp = solve(&sys, ModeRequest::Lowest(24), Method::Lanczos);
     let de = solve(&sys, ModeRequest::Lowest(24), Method::Dense);
@@ -94,11 +59,7 @@ fn cantilever_tube_with_exact_pairs() {
     // member moving along Y, one along Z.
     for i in 0..24 {
         let d = m_dot(&sys, sp.shape(i), de.shape(i));
-        assert!(
-            (d - 1.0).abs() < 1e-6,
-            "mode {}: orientation differs between routes ({d})",
-            i + 1
-        );
+        assert!((d - 1.0).abs() < 1e-6, "mode {}: orientation differs between routes ({d})", i + 1);
     }
 }
 
@@ -159,13 +120,7 @@ fn shaft_with_absorbers_as_degrees_of_freedom() {
                 {"at": {"line": "shaft", "at": 0.25}, "direction": [0, 1, 1], "mass": 0.03, "stiffness": 1.5e5}]
 }"#,
     );
-    let sys = assemble(
-        &s,
-        AssemblyOptions {
-            include_absorbers: true,
-        },
-    )
-    .unwrap_or_else(|e| panic!("{e}"));
+    let sys = assemble(&s, AssemblyOptions { include_absorbers: true }).unwrap_or_else(|e| panic!("{e}"));
     let sp = solve(&sys, ModeRequest::Lowest(16), Method::Lanczos);
     let de = solve(&sys, ModeRequest::Lowest(16), Method::Dense);
     compare(&sys, &sp, &de, "shaft with absorbers");
@@ -190,49 +145,26 @@ fn near_equal_frequencies_are_resolved() {
     let de = solve(&sys, ModeRequest::Lowest(12), Method::Dense);
     compare(&sys, &sp, &de, "near-equal pair");
     let split = (de.eigenvalues[1] - de.eigenvalues[0]) / de.eigenvalues[0];
-    assert!(
-        split > 1e-8 && split < 1e-4,
-        "the test model must have a close pair, got {split}"
-    );
+    assert!(split > 1e-8 && split < 1e-4, "the test model must have a close pair, got {split}");
 }
 
 #[test]
 fn band_requests_return_exactly_the_dense_set() {
     let tube = r#"{"circular_tube": {"outer_diameter": 0.1, "wall_thickness": 0.005}}"#;
-    let s = structure(&beam_model(
-        tube,
-        30,
-        2.0,
-        r#"[{"at": {"line": "beam", "at": 0}, "fixed": "clamped"}]"#,
-        STEEL,
-    ));
+    let s = structure(&beam_model(tube, 30, 2.0, r#"[{"at": {"line": "beam", "at": 0}, "fixed": "clamped"}]"#, STEEL));
     let sys = system(&s);
     let all = solve(&sys, ModeRequest::Lowest(30), Method::Dense);
     let f: Vec<f64> = (0..30).map(|i| all.frequency_hz(i)).collect();
     // Bands with edges between modes, and with the lower edge exactly between the two members... of
     // a pair (an edge at the pair's own frequency must keep or drop both together).
-    for (lo, hi) in [
-        (0.0, 0.5 * (f[5] + f[7])),
-        (0.5 * (f[2] + f[4]), 0.5 * (f[11] + f[13])),
-        (f[3] * 0.999999, f[9] * 1.000001),
-    ] {
-        let sp = solve(
-            &sys,
-            ModeRequest::Band {
-                low_hz: lo,
-                high_hz: hi,
-            },
-            Method::Lanczos,
-        );
+    for (lo, hi) in
+        [(0.0, 0.5 * (f[5] + f[7])), (0.5 * (f[2] + f[4]), 0.5 * (f[11] + f[13])), (f[3] * 0.999999, f[9] * 1.000001)]
+    {
+        let sp = solve(&sys, ModeRequest::Band { low_hz: lo, high_hz: hi }, Method::Lanczos);
         let want: Vec<usize> = (0..30).filter(|&i| f[i] >= lo && f[i] <= hi).collect();
         assert_eq!(sp.n_modes(), want.len(), "band [{lo}, {hi}]");
         for (k, &i) in want.iter().enumerate() {
-            assert_rel(
-                sp.eigenvalues[k],
-                all.eigenvalues[i],
-                1e-9,
-                &format!("band [{lo}, {hi}] mode {k}"),
-            );
+            assert_rel(sp.eigenvalues[k], all.eigenvalues[i], 1e-9, &format!("band [{lo}, {hi}] mode {k}"));
         }
     }
 }

@@ -51,15 +51,7 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
     if json {
         return print_json(&report);
     }
-    println!(
-        "{}: {}",
-        report.model,
-        if report.title.is_empty() {
-            "(no title)"
-        } else {
-            &report.title
-        }
-    );
+    println!("{}: {}", report.model, if report.title.is_empty() { "(no title)" } else { &report.title });
     let c = report.centre_of_mass;
     let rows = vec![
         vec!["nodes".into(), report.nodes.to_string()],
@@ -67,24 +59,12 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         vec!["lines".into(), report.lines.to_string()],
         vec!["springs".into(), report.springs.to_string()],
         vec!["point masses".into(), report.point_masses.to_string()],
-        vec![
-            "absorbers".into(),
-            format!("{} ({:.4} kg)", report.absorbers, report.absorber_mass_kg),
-        ],
+        vec!["absorbers".into(), format!("{} ({:.4} kg)", report.absorbers, report.absorber_mass_kg)],
         vec!["fixed DOFs".into(), report.fixed_dofs.to_string()],
         vec!["free DOFs".into(), report.free_dofs.to_string()],
-        vec![
-            "total mass".into(),
-            format!("{:.6} kg", report.total_mass_kg),
-        ],
-        vec![
-            "centre of mass".into(),
-            format!("({:.6}, {:.6}, {:.6}) m", c.x, c.y, c.z),
-        ],
-        vec![
-            "zero-energy modes".into(),
-            report.zero_energy_modes.to_string(),
-        ],
+        vec!["total mass".into(), format!("{:.6} kg", report.total_mass_kg)],
+        vec!["centre of mass".into(), format!("({:.6}, {:.6}, {:.6}) m", c.x, c.y, c.z)],
+        vec!["zero-energy modes".into(), report.zero_energy_modes.to_string()],
     ];
     println!("{}", table(&["item", "value"], rows));
     if report.warnings.is_empty() {

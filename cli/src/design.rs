@@ -82,8 +82,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     progress.stage("screening and ranking candidates");
     let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
         .with_context(|| format!("in {}", path.display()))?;
-    let d = design(&sm, &spec, &l.structure)
-        .with_context(|| format!("design for {}", path.display()))?;
+    let d = design(&sm, &spec, &l.structure).with_context(|| format!("design for {}", path.display()))?;
     progress.stage("writing files");
     let s = &l.structure;
     // The model with the new absorbers, ready for `antinode respond`.
@@ -91,11 +90,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let first = model.absorbers.len();
     for (i, a) in d.absorbers.iter().enumerate() {
         model.absorbers.push(Absorber {
-            name: Some(format!(
-                "designed {} (mode {})",
-                first + i + 1,
-                a.target_mode
-            )),
+            name: Some(format!("designed {} (mode {})", first + i + 1, a.target_mode)),
             at: Location::node(s.nodes[a.candidate.node].id),
             direction: a.candidate.direction.given.clone(),
             mass: a.mass_kg,
@@ -104,8 +99,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
             loss_factor: None,
         });
     }
-    let designed =
-        validate(&model).context("the designed model does not validate (please report this)")?;
+    let designed = validate(&model).context("the designed model does not validate (please report this)")?;
     let mut outputs = Outputs::create(path, out.as_deref())?;
     let model_path = outputs.path("design.json");
     let result_path = outputs.path("design-result.json");
@@ -130,16 +124,8 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let pa = magnitude_points(&after);
     let mut series = Vec::new();
     for (i, n) in sm.response_names.iter().enumerate() {
-        series.push(Series {
-            label: format!("{n}, before"),
-            points: &pb[i],
-            dashed: true,
-        });
-        series.push(Series {
-            label: format!("{n}, with designed absorbers"),
-            points: &pa[i],
-            dashed: false,
-        });
+        series.push(Series { label: format!("{n}, before"), points: &pb[i], dashed: true });
+        series.push(Series { label: format!("{n}, with designed absorbers"), points: &pa[i], dashed: false });
     }
     let markers: Vec<f64> = d.targets.iter().map(|t| t.frequency_hz).collect();
     let svg = frf_svg(
@@ -210,19 +196,10 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     };
     let fields = mode_fields(&system, &modes);
     outputs.write_vtu("design.vtu", &designed, &fields)?;
-    outputs.write(
-        "design.csv",
-        curves_csv(&sm, &before, Some(&after), &names[..]).as_bytes(),
-    )?;
+    outputs.write("design.csv", curves_csv(&sm, &before, Some(&after), &names[..]).as_bytes())?;
     outputs.write("frf.svg", svg.as_bytes())?;
-    outputs.write(
-        "design.json",
-        serde_json::to_string_pretty(&model)?.as_bytes(),
-    )?;
-    outputs.write(
-        "design-result.json",
-        serde_json::to_string_pretty(&report)?.as_bytes(),
-    )?;
+    outputs.write("design.json", serde_json::to_string_pretty(&model)?.as_bytes())?;
+    outputs.write("design-result.json", serde_json::to_string_pretty(&report)?.as_bytes())?;
     outputs.commit()?;
     drop(progress);
     if json {
@@ -233,10 +210,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
 }
 
 fn loc(l: &LocationOut) -> String {
-    format!(
-        "node {} ({:.4}, {:.4}, {:.4})",
-        l.node, l.xyz[0], l.xyz[1], l.xyz[2]
-    )
+    format!("node {} ({:.4}, {:.4}, {:.4})", l.node, l.xyz[0], l.xyz[1], l.xyz[2])
 }
 
 fn dir_text(v: &serde_json::Value) -> String {
@@ -264,13 +238,7 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         })
         .collect();
     println!("target modes:");
-    println!(
-        "{}",
-        table(
-            &["mode", "frequency [Hz]", "modal peak [m/N]", "window [Hz]"],
-            trows
-        )
-    );
+    println!("{}", table(&["mode", "frequency [Hz]", "modal peak [m/N]", "window [Hz]"], trows));
     for slot in &r.ranking {
         println!(
             "ranked candidates for absorber {} (mode {}, {:.4} kg, with the absorbers placed before it):",
@@ -293,24 +261,10 @@ fn print_human(r: &DesignReport, mass_each: f64) {
             .collect();
         println!(
             "{}",
-            table(
-                &[
-                    "rank",
-                    "location",
-                    "dir",
-                    "mu per kg [1/kg]",
-                    "mu",
-                    "window peak [m/N]",
-                    "reduction [dB]"
-                ],
-                rows
-            )
+            table(&["rank", "location", "dir", "mu per kg [1/kg]", "mu", "window peak [m/N]", "reduction [dB]"], rows)
         );
     }
-    println!(
-        "designed absorbers (start: {}; refined on the coupled model):",
-        r.start_rule
-    );
+    println!("designed absorbers (start: {}; refined on the coupled model):", r.start_rule);
     let rows = r
         .absorbers
         .iter()
@@ -350,9 +304,7 @@ fn print_human(r: &DesignReport, mass_each: f64) {
             rows
         )
     );
-    println!(
-        "zeta_a = c/(2 m w_a) with w_a = sqrt(k/m); Den Hartog's c/c_c = c/(2 m w_mode) is in the JSON output"
-    );
+    println!("zeta_a = c/(2 m w_a) with w_a = sqrt(k/m); Den Hartog's c/c_c = c/(2 m w_mode) is in the JSON output");
     println!(
         "peak receptance at the response points: before {:.4e} m/N at {:.3} Hz, after {:.4e} m/N at {:.3} Hz ({:+.2} dB)",
         r.peak_before, r.peak_before_hz, r.peak_after, r.peak_after_hz, r.peak_change_db

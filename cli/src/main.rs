@@ -35,6 +35,9 @@ enum Command {
     /// Design the study's absorbers: ranked candidates, chosen absorbers, response before and
     /// after; writes design.json (the model with the absorbers added), plots and VTK.
     Design(DesignArgs),
+    /// Write K and M after constraints as MatrixMarket files (K.mtx, M.mtx), so other libraries can
+    /// be compared on the same matrices.
+    ExportMatrices(ExportArgs),
     /// Print the JSON Schema of the model file.
     Schema,
 }
@@ -56,18 +59,46 @@ struct CheckArgs {
 
 #[derive(Args)]
 struct ModesArgs {
-    #[command(flatten)]
-    common: Common,
-    /// Number of lowest modes (zero-frequency modes included).
-    #[arg(long, conflicts_with = "max_frequency")]
+    /// Model file (JSON); or give --stiffness and --mass instead.
+    #[arg(required_unless_present_all = ["stiffness", "mass"], conflicts_with_all = ["stiffness", "mass"])]
+    model: Option<PathBuf>,
+    /// Stiffness matrix K (MatrixMarket, real symmetric coordinate).
+    #[arg(long, requires = "mass")]
+    stiffness: Option<PathBuf>,
+    /// Mass matrix M (MatrixMarket, real symmetric coordinate).
+    #[arg(long, requires = "stiffness")]
+    mass: Option<PathBuf>,
+    /// Machine-readable JSON on standard output instead of tables.
+    #[arg(long)]
+    json: bool,
+    /// Number of lowest modes (zero-frequency modes included); with --max-frequency, a cap.
+    #[arg(long)]
     count: Option<usize>,
     /// Every mode up to this frequency, in Hz.
     #[arg(long)]
     max_frequency: Option<f64>,
+    /// With --max-frequency: the band's lower edge, in Hz.
+    #[arg(long)]
+    min_frequency: Option<f64>,
+    /// Lanczos block size (at least the largest multiplicity expected; default 4).
+    #[arg(long)]
+    block_size: Option<usize>,
     /// Output directory (default: out/<model name>).
     #[arg(long)]
     out: Option<PathBuf>,
     /// Include the model's absorbers as extra degrees of freedom (undamped coupled modes).
+    #[arg(long)]
+    with_absorbers: bool,
+}
+
+#[derive(Args)]
+struct ExportArgs {
+    /// Model file (JSON).
+    model: PathBuf,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    /// Include the model's absorbers as extra degrees of freedom.
     #[arg(long)]
     with_absorbers: bool,
 }
@@ -96,13 +127,23 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Command::Check(a) => check::run(&a.common.model, a.common.json),
         Command::Modes(a) => modes::run(&modes::Options {
-            model: a.common.model,
-            json: a.common.json,
+            source: match (a.model, a.stiffness, a.mass) {
+                (Some(m), _, _) => modes::Source::Model(m),
+                (None, Some(stiffness), Some(mass)) => modes::Source::Matrices { stiffness, mass },
+                _ => {
+                    eprintln!("error: give a model file, or both --stiffness and --mass");
+                    return ExitCode::FAILURE;
+                }
+            },
+            json: a.json,
             count: a.count,
+            min_frequency: a.min_frequency,
             max_frequency: a.max_frequency,
             out: a.out,
             with_absorbers: a.with_absorbers,
+            block_size: a.block_size,
         }),
+        Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Schema => {

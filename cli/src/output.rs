@@ -16,10 +16,7 @@ pub struct LocationOut {
 
 impl LocationOut {
     pub fn of(s: &Structure, node: usize) -> Self {
-        Self {
-            node: s.nodes[node].id.0,
-            xyz: s.nodes[node].xyz,
-        }
+        Self { node: s.nodes[node].id.0, xyz: s.nodes[node].xyz }
     }
 }
 
@@ -33,11 +30,7 @@ pub struct Xyz {
 
 impl From<[f64; 3]> for Xyz {
     fn from(v: [f64; 3]) -> Self {
-        Self {
-            x: v[0],
-            y: v[1],
-            z: v[2],
-        }
+        Self { x: v[0], y: v[1], z: v[2] }
     }
 }
 

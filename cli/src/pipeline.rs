@@ -6,8 +6,7 @@ use std::time::Duration;
 
 use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate};
 use antinode_solver::{
-    AssemblyOptions, EigenParams, ModalSolution, ModeRequest, System, assemble, check_zero_energy,
-    solve_modes,
+    AssemblyOptions, EigenParams, ModalSolution, ModeRequest, System, assemble, check_zero_energy, solve_modes,
 };
 use anyhow::{Context, Result, bail};
 use indicatif::{ProgressBar, ProgressStyle};
@@ -25,48 +24,32 @@ pub struct Loaded {
 /// Reads and validates a model file; errors name the file.
 pub fn load(path: &Path) -> Result<Loaded> {
     let model = load_model(path)?;
-    let structure =
-        validate(&model).with_context(|| format!("invalid model {}", path.display()))?;
-    Ok(Loaded {
-        path: path.to_path_buf(),
-        model,
-        structure,
-    })
+    let structure = validate(&model).with_context(|| format!("invalid model {}", path.display()))?;
+    Ok(Loaded { path: path.to_path_buf(), model, structure })
 }
 
 /// Assembles and checks zero-energy motions against the supports; returns the system and the count.
 pub fn assemble_checked(l: &Loaded, include_absorbers: bool) -> Result<(System, usize)> {
     let system = assemble(&l.structure, AssemblyOptions { include_absorbers })
         .with_context(|| format!("cannot assemble {}", l.path.display()))?;
-    let zero = check_zero_energy(&l.structure, &system)
-        .with_context(|| format!("in {}", l.path.display()))?;
+    let zero = check_zero_energy(&l.structure, &system).with_context(|| format!("in {}", l.path.display()))?;
     Ok((system, zero))
 }
 
 /// Fails when `sol` holds more zero-frequency modes than the supports allow.
 pub fn confirm_zero_energy(l: &Loaded, system: &System, sol: &ModalSolution) -> Result<()> {
-    antinode_solver::confirm_zero_energy(&l.structure, system, sol)
-        .with_context(|| format!("in {}", l.path.display()))
+    antinode_solver::confirm_zero_energy(&l.structure, system, sol).with_context(|| format!("in {}", l.path.display()))
 }
 
 /// Modes for the study: every mode up to the study's `max_mode_frequency_hz`.
 pub fn study_modes(l: &Loaded, system: &System, progress: &Progress) -> Result<ModalSolution> {
     let Some(study) = &l.structure.study else {
-        bail!(
-            "{}: the model has no study block (band, excitation, response points)",
-            l.path.display()
-        );
+        bail!("{}: the model has no study block (band, excitation, response points)", l.path.display());
     };
-    progress.stage(&format!(
-        "computing modes up to {:.1} Hz",
-        study.max_mode_frequency_hz
-    ));
+    progress.stage(&format!("computing modes up to {:.1} Hz", study.max_mode_frequency_hz));
     let sol = solve_modes(
         system,
-        ModeRequest::Band {
-            low_hz: 0.0,
-            high_hz: study.max_mode_frequency_hz,
-        },
+        ModeRequest::Band { low_hz: 0.0, high_hz: study.max_mode_frequency_hz },
         &EigenParams::default(),
     )
     .with_context(|| format!("modes of {}", l.path.display()))?;
@@ -98,25 +81,14 @@ impl Outputs {
         let dir = match out {
             Some(d) => d.to_path_buf(),
             None => {
-                let stem = model
-                    .file_stem()
-                    .map(|s| s.to_string_lossy().into_owned())
-                    .unwrap_or_else(|| "model".into());
+                let stem =
+                    model.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "model".into());
                 PathBuf::from("out").join(stem)
             }
         };
-        let created: Vec<PathBuf> = dir
-            .ancestors()
-            .take_while(|a| !a.as_os_str().is_empty() && !a.exists())
-            .map(Path::to_path_buf)
-            .collect();
-        let outputs = Self {
-            dir,
-            created,
-            staged: Vec::new(),
-            placed: Vec::new(),
-            committed: false,
-        };
+        let created: Vec<PathBuf> =
+            dir.ancestors().take_while(|a| !a.as_os_str().is_empty() && !a.exists()).map(Path::to_path_buf).collect();
+        let outputs = Self { dir, created, staged: Vec::new(), placed: Vec::new(), committed: false };
         std::fs::create_dir_all(&outputs.dir)
             .with_context(|| format!("cannot create output folder {}", outputs.dir.display()))?;
         Ok(outputs)
@@ -129,11 +101,15 @@ impl Outputs {
 
     /// A staging name for `name`, hidden, in the output folder (so the rename stays on one disk).
     fn stage(&mut self, name: &str) -> PathBuf {
-        let staging = self
-            .dir
-            .join(format!(".{name}.{}.staged", std::process::id()));
+        let staging = self.dir.join(format!(".{name}.{}.staged", std::process::id()));
         self.staged.push((staging.clone(), self.path(name)));
         staging
+    }
+
+    /// A staging path for the file `name`, for writers that take a path; put in place by
+    /// [`Outputs::commit`].
+    pub fn staging(&mut self, name: &str) -> PathBuf {
+        self.stage(name)
     }
 
     /// Writes the file `name`, to be put in place by [`Outputs::commit`].
@@ -144,12 +120,7 @@ impl Outputs {
     }
 
     /// Writes the VTK file `name` of `structure` with point vectors `fields`.
-    pub fn write_vtu(
-        &mut self,
-        name: &str,
-        structure: &Structure,
-        fields: &[NodalVectors],
-    ) -> Result<()> {
+    pub fn write_vtu(&mut self, name: &str, structure: &Structure, fields: &[NodalVectors]) -> Result<()> {
         let staging = self.stage(name);
         antinode_mesh::write_vtu(&staging, structure, fields, &[])
             .with_context(|| format!("cannot write {}", self.path(name).display()))
@@ -159,8 +130,7 @@ impl Outputs {
     pub fn commit(mut self) -> Result<()> {
         // On a failed rename, dropping `self` removes the rest.
         for (staging, real) in &self.staged {
-            std::fs::rename(staging, real)
-                .with_context(|| format!("cannot write {}", real.display()))?;
+            std::fs::rename(staging, real).with_context(|| format!("cannot write {}", real.display()))?;
             self.placed.push(real.clone());
         }
         self.committed = true;

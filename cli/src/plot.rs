@@ -23,17 +23,8 @@ const COLOURS: [RGBColor; 6] = [
 ];
 
 /// A magnitude-versus-frequency plot with a logarithmic magnitude axis, as SVG text.
-pub fn frf_svg(
-    title: &str,
-    y_label: &str,
-    series: &[Series<'_>],
-    markers_hz: &[f64],
-) -> Result<String> {
-    let all: Vec<(f64, f64)> = series
-        .iter()
-        .flat_map(|s| s.points.iter().copied())
-        .filter(|p| p.1 > 0.0)
-        .collect();
+pub fn frf_svg(title: &str, y_label: &str, series: &[Series<'_>], markers_hz: &[f64]) -> Result<String> {
+    let all: Vec<(f64, f64)> = series.iter().flat_map(|s| s.points.iter().copied()).filter(|p| p.1 > 0.0).collect();
     if all.is_empty() {
         return Err(anyhow!("nothing to plot"));
     }

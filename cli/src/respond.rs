@@ -46,13 +46,7 @@ struct RespondReport {
 /// Peaks of the largest response over the points, refined between grid neighbours.
 pub fn peaks(sm: &StudyModel, curves: &Curves, links: &[AbsorberLink]) -> Vec<PeakOut> {
     let vals: Vec<f64> = (0..curves.frequency_hz.len())
-        .map(|i| {
-            curves
-                .response
-                .iter()
-                .map(|r| r[i].norm())
-                .fold(0.0, f64::max)
-        })
+        .map(|i| curves.response.iter().map(|r| r[i].norm()).fold(0.0, f64::max))
         .collect();
     refined_peaks(&curves.frequency_hz, &vals, |f| sm.response_at(f, links).0)
         .into_iter()
@@ -66,12 +60,7 @@ pub fn peaks(sm: &StudyModel, curves: &Curves, links: &[AbsorberLink]) -> Vec<Pe
 
 /// CSV of curves: frequency, then magnitude and phase per response point (before, after), then the
 /// absorbers' stroke and force magnitudes (after).
-pub fn curves_csv(
-    sm: &StudyModel,
-    before: &Curves,
-    after: Option<&Curves>,
-    absorber_names: &[String],
-) -> String {
+pub fn curves_csv(sm: &StudyModel, before: &Curves, after: Option<&Curves>, absorber_names: &[String]) -> String {
     let mut s = String::from("frequency_hz");
     for n in &sm.response_names {
         let _ = write!(s, ",{n} before [m/N],{n} before phase [deg]");
@@ -95,12 +84,7 @@ pub fn curves_csv(
         }
         if let Some(a) = after {
             for k in 0..absorber_names.len() {
-                let _ = write!(
-                    s,
-                    ",{:.9e},{:.9e}",
-                    a.stroke[k][i].norm(),
-                    a.spring_force[k][i].norm()
-                );
+                let _ = write!(s, ",{:.9e},{:.9e}", a.stroke[k][i].norm(), a.spring_force[k][i].norm());
             }
         }
         s.push('\n');
@@ -110,25 +94,13 @@ pub fn curves_csv(
 
 /// Points (f, |x|) of each response point's curve.
 pub fn magnitude_points(c: &Curves) -> Vec<Vec<(f64, f64)>> {
-    c.response
-        .iter()
-        .map(|r| {
-            c.frequency_hz
-                .iter()
-                .zip(r)
-                .map(|(&f, x)| (f, x.norm()))
-                .collect()
-        })
-        .collect()
+    c.response.iter().map(|r| c.frequency_hz.iter().zip(r).map(|(&f, x)| (f, x.norm())).collect()).collect()
 }
 
 pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let l = load(path)?;
     let Some(study) = l.structure.study.clone() else {
-        bail!(
-            "{}: the model has no study block (band, excitation, response points)",
-            path.display()
-        );
+        bail!("{}: the model has no study block (band, excitation, response points)", path.display());
     };
     let progress = Progress::new();
     progress.stage("assembling");
@@ -140,12 +112,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let before = sm.curves(&sm.grid_hz, &[]);
     let has_absorbers = !sm.existing.is_empty();
     let after = has_absorbers.then(|| sm.curves(&sm.grid_hz, &sm.existing));
-    let names: Vec<String> = l
-        .structure
-        .absorbers
-        .iter()
-        .map(|a| a.name.clone())
-        .collect();
+    let names: Vec<String> = l.structure.absorbers.iter().map(|a| a.name.clone()).collect();
     let mut outputs = Outputs::create(path, out.as_deref())?;
     let csv_path = outputs.path("response.csv");
     let svg_path = outputs.path("frf.svg");
@@ -154,36 +121,17 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let pa = after.as_ref().map(magnitude_points);
     let mut series = Vec::new();
     for (i, n) in sm.response_names.iter().enumerate() {
-        series.push(Series {
-            label: format!("{n}, without absorbers"),
-            points: &pb[i],
-            dashed: true,
-        });
+        series.push(Series { label: format!("{n}, without absorbers"), points: &pb[i], dashed: true });
         if let Some(pa) = &pa {
-            series.push(Series {
-                label: format!("{n}, with absorbers"),
-                points: &pa[i],
-                dashed: false,
-            });
+            series.push(Series { label: format!("{n}, with absorbers"), points: &pa[i], dashed: false });
         }
     }
-    let markers: Vec<f64> = sm
-        .natural_hz
-        .iter()
-        .copied()
-        .filter(|&f| f >= study.band_hz[0] && f <= study.band_hz[1])
-        .collect();
-    let svg = frf_svg(
-        &format!("Receptance: {}", l.structure.title),
-        "displacement per newton [m/N]",
-        &series,
-        &markers,
-    )?;
+    let markers: Vec<f64> =
+        sm.natural_hz.iter().copied().filter(|&f| f >= study.band_hz[0] && f <= study.band_hz[1]).collect();
+    let svg =
+        frf_svg(&format!("Receptance: {}", l.structure.title), "displacement per newton [m/N]", &series, &markers)?;
     let peaks_before = peaks(&sm, &before, &[]);
-    let peaks_after = after
-        .as_ref()
-        .map(|a| peaks(&sm, a, &sm.existing))
-        .unwrap_or_default();
+    let peaks_after = after.as_ref().map(|a| peaks(&sm, a, &sm.existing)).unwrap_or_default();
     let report = RespondReport {
         model: path.display().to_string(),
         title: l.structure.title.clone(),
@@ -192,10 +140,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         response_points: sm.response_names.clone(),
         reference_force_n: sm.reference_force,
         peak_before: sm.peak(study.band_hz[0], study.band_hz[1], &[]).receptance,
-        peak_after: has_absorbers.then(|| {
-            sm.peak(study.band_hz[0], study.band_hz[1], &sm.existing)
-                .receptance
-        }),
+        peak_after: has_absorbers.then(|| sm.peak(study.band_hz[0], study.band_hz[1], &sm.existing).receptance),
         peaks_before,
         peaks_after,
         absorbers: after
@@ -206,32 +151,17 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
                     .enumerate()
                     .map(|(k, n)| AbsorberOut {
                         name: n.clone(),
-                        max_stroke_m_per_n: a.stroke[k]
-                            .iter()
-                            .map(|z| z.norm())
-                            .fold(0.0, f64::max),
-                        max_spring_force_n_per_n: a.spring_force[k]
-                            .iter()
-                            .map(|z| z.norm())
-                            .fold(0.0, f64::max),
+                        max_stroke_m_per_n: a.stroke[k].iter().map(|z| z.norm()).fold(0.0, f64::max),
+                        max_spring_force_n_per_n: a.spring_force[k].iter().map(|z| z.norm()).fold(0.0, f64::max),
                     })
                     .collect()
             })
             .unwrap_or_default(),
-        files: [&csv_path, &svg_path, &json_path]
-            .iter()
-            .map(|p| p.display().to_string())
-            .collect(),
+        files: [&csv_path, &svg_path, &json_path].iter().map(|p| p.display().to_string()).collect(),
     };
-    outputs.write(
-        "response.csv",
-        curves_csv(&sm, &before, after.as_ref(), &names).as_bytes(),
-    )?;
+    outputs.write("response.csv", curves_csv(&sm, &before, after.as_ref(), &names).as_bytes())?;
     outputs.write("frf.svg", svg.as_bytes())?;
-    outputs.write(
-        "response.json",
-        serde_json::to_string_pretty(&report)?.as_bytes(),
-    )?;
+    outputs.write("response.json", serde_json::to_string_pretty(&report)?.as_bytes())?;
     outputs.commit()?;
     drop(progress);
     if json {
@@ -239,40 +169,18 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     }
     println!(
         "{}: band {}-{} Hz, {} modes kept (up to {:.1} Hz) with residual flexibility",
-        report.model,
-        study.band_hz[0],
-        study.band_hz[1],
-        report.modes_kept,
-        study.max_mode_frequency_hz
+        report.model, study.band_hz[0], study.band_hz[1], report.modes_kept, study.max_mode_frequency_hz
     );
     let rows = |p: &[PeakOut]| -> Vec<Vec<String>> {
         p.iter()
-            .map(|k| {
-                vec![
-                    format!("{:.4}", k.frequency_hz),
-                    format!("{:.4e}", k.receptance),
-                    k.point.clone(),
-                ]
-            })
+            .map(|k| vec![format!("{:.4}", k.frequency_hz), format!("{:.4e}", k.receptance), k.point.clone()])
             .collect()
     };
     println!("peaks without absorbers (per newton of excitation):");
-    println!(
-        "{}",
-        table(
-            &["frequency [Hz]", "receptance [m/N]", "point"],
-            rows(&report.peaks_before)
-        )
-    );
+    println!("{}", table(&["frequency [Hz]", "receptance [m/N]", "point"], rows(&report.peaks_before)));
     if has_absorbers {
         println!("peaks with the model's {} absorber(s):", names.len());
-        println!(
-            "{}",
-            table(
-                &["frequency [Hz]", "receptance [m/N]", "point"],
-                rows(&report.peaks_after)
-            )
-        );
+        println!("{}", table(&["frequency [Hz]", "receptance [m/N]", "point"], rows(&report.peaks_after)));
         let arows = report
             .absorbers
             .iter()
@@ -284,13 +192,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
                 ]
             })
             .collect();
-        println!(
-            "{}",
-            table(
-                &["absorber", "max stroke [m/N]", "max spring force [N/N]"],
-                arows
-            )
-        );
+        println!("{}", table(&["absorber", "max stroke [m/N]", "max spring force [N/N]"], arows));
     } else {
         println!("the model has no absorbers: only the bare structure is shown");
     }

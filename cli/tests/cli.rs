@@ -29,22 +29,13 @@ impl Run {
     /// Standard output parsed as JSON; fails the test with both streams otherwise.
     fn json(&self) -> Value {
         serde_json::from_str(&self.stdout).unwrap_or_else(|e| {
-            panic!(
-                "stdout is not JSON ({e}):\n--- stdout\n{}\n--- stderr\n{}",
-                self.stdout, self.stderr
-            )
+            panic!("stdout is not JSON ({e}):\n--- stdout\n{}\n--- stderr\n{}", self.stdout, self.stderr)
         })
     }
 
     /// Fails the test unless the run succeeded.
     fn assert_success(&self, what: &str) {
-        assert_eq!(
-            self.code,
-            Some(0),
-            "{what} failed:\n--- stdout\n{}\n--- stderr\n{}",
-            self.stdout,
-            self.stderr
-        );
+        assert_eq!(self.code, Some(0), "{what} failed:\n--- stdout\n{}\n--- stderr\n{}", self.stdout, self.stderr);
     }
 }
 
@@ -54,11 +45,7 @@ where
     I: IntoIterator<Item = S>,
     S: AsRef<OsStr>,
 {
-    let out = Command::new(BIN)
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .expect("the antinode binary runs");
+    let out = Command::new(BIN).current_dir(dir).args(args).output().expect("the antinode binary runs");
     Run {
         code: out.status.code(),
         stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
@@ -72,9 +59,7 @@ fn temp() -> TempDir {
 
 /// A bundled example model, by file name.
 fn example(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../models")
-        .join(name)
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../models").join(name)
 }
 
 /// Names of the entries of a folder (empty if it does not exist).
@@ -93,18 +78,12 @@ fn set(names: &[&str]) -> BTreeSet<String> {
 
 /// The number at `v`, failing the test with `what` if it is missing or not a number.
 fn num(v: &Value, what: &str) -> f64 {
-    v.as_f64()
-        .unwrap_or_else(|| panic!("{what} is missing or not a number: {v}"))
+    v.as_f64().unwrap_or_else(|| panic!("{what} is missing or not a number: {v}"))
 }
 
 /// Asserts that `dir` holds exactly `names`, each a non-empty file.
 fn assert_files(dir: &Path, names: &[&str]) {
-    assert_eq!(
-        entries(dir),
-        set(names),
-        "files in {} (no temporary or extra files expected)",
-        dir.display()
-    );
+    assert_eq!(entries(dir), set(names), "files in {} (no temporary or extra files expected)", dir.display());
     for n in names {
         let len = std::fs::metadata(dir.join(n)).map(|m| m.len()).unwrap_or(0);
         assert!(len > 0, "{} is empty", dir.join(n).display());
@@ -117,23 +96,13 @@ fn assert_files(dir: &Path, names: &[&str]) {
 
 /// `check --json`: counts and mass of a valid model.
 fn check_example(dir: &Path, model: &Path) {
-    let r = antinode(
-        dir,
-        [OsStr::new("check"), model.as_os_str(), "--json".as_ref()],
-    );
+    let r = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
     r.assert_success("check");
     let j = r.json();
     assert!(num(&j["total_mass_kg"], "check: total_mass_kg") > 0.0);
     assert!(j["nodes"].as_u64().is_some_and(|n| n > 0), "check: nodes");
-    assert!(
-        j["free_dofs"].as_u64().is_some_and(|n| n > 0),
-        "check: free_dofs"
-    );
-    assert_eq!(
-        j["zero_energy_modes"].as_u64(),
-        Some(0),
-        "check: held model"
-    );
+    assert!(j["free_dofs"].as_u64().is_some_and(|n| n > 0), "check: free_dofs");
+    assert_eq!(j["zero_energy_modes"].as_u64(), Some(0), "check: held model");
     assert!(j["warnings"].is_array(), "check: warnings");
     assert!(entries(dir).is_empty(), "check writes no file");
 }
@@ -160,91 +129,51 @@ fn modes_example(dir: &Path, model: &Path) {
     assert_eq!(modes.len(), 8, "modes --count 8 gives 8 modes");
     let mut previous = 0.0;
     for (i, m) in modes.iter().enumerate() {
-        assert_eq!(
-            m["number"].as_u64(),
-            Some(i as u64 + 1),
-            "modes[{i}].number"
-        );
+        assert_eq!(m["number"].as_u64(), Some(i as u64 + 1), "modes[{i}].number");
         let f = num(&m["frequency_hz"], "modes[].frequency_hz");
-        assert!(
-            f > 0.0,
-            "modes[{i}].frequency_hz = {f} (the examples are held)"
-        );
+        assert!(f > 0.0, "modes[{i}].frequency_hz = {f} (the examples are held)");
         // Non-strict: the round shafts have pairs of equal bending frequencies.
         assert!(f >= previous, "modes[{i}].frequency_hz = {f} < {previous}");
         previous = f;
         for d in ["x", "y", "z"] {
-            let e = num(
-                &m["effective_mass_fraction"][d],
-                "modes[].effective_mass_fraction",
-            );
-            assert!(
-                (0.0..=1.0).contains(&e),
-                "modes[{i}].effective_mass_fraction.{d} = {e}"
-            );
+            let e = num(&m["effective_mass_fraction"][d], "modes[].effective_mass_fraction");
+            assert!((0.0..=1.0).contains(&e), "modes[{i}].effective_mass_fraction.{d} = {e}");
         }
     }
     let sturm = &j["sturm_check"];
-    assert!(
-        sturm.is_object(),
-        "modes: sturm_check is an object: {sturm}"
-    );
-    assert_eq!(
-        sturm["passed"].as_bool(),
-        Some(true),
-        "sturm_check: {sturm}"
-    );
+    assert!(sturm.is_object(), "modes: sturm_check is an object: {sturm}");
+    assert_eq!(sturm["passed"].as_bool(), Some(true), "sturm_check: {sturm}");
     assert_files(&out, &["modes.json", "modes.csv", "modes.vtu"]);
     // The file holds the same report as standard output.
-    let file: Value = serde_json::from_str(
-        &std::fs::read_to_string(out.join("modes.json")).expect("modes.json is readable"),
-    )
-    .expect("modes.json is JSON");
+    let file: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("modes.json")).expect("modes.json is readable"))
+            .expect("modes.json is JSON");
     assert_eq!(file["modes"], j["modes"], "modes.json and stdout agree");
 }
 
 /// `respond --json --out`: peaks and files.
 fn respond_example(dir: &Path, model: &Path, has_absorbers: bool) {
     let out = dir.join("respond-out");
-    let r = antinode(
-        dir,
-        [
-            OsStr::new("respond"),
-            model.as_os_str(),
-            "--json".as_ref(),
-            "--out".as_ref(),
-            out.as_os_str(),
-        ],
-    );
+    let r =
+        antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
     r.assert_success("respond");
     let j = r.json();
     let before = num(&j["peak_before"], "respond: peak_before");
     assert!(before > 0.0 && before.is_finite(), "peak_before = {before}");
-    let peaks = j["peaks_before"]
-        .as_array()
-        .expect("respond: peaks_before[]");
+    let peaks = j["peaks_before"].as_array().expect("respond: peaks_before[]");
     assert!(!peaks.is_empty(), "respond: at least one peak in the band");
     let band = [num(&j["band_hz"][0], "band"), num(&j["band_hz"][1], "band")];
     for p in peaks {
         let f = num(&p["frequency_hz"], "peaks_before[].frequency_hz");
-        assert!(
-            f >= band[0] && f <= band[1],
-            "peak at {f} Hz outside {band:?}"
-        );
+        assert!(f >= band[0] && f <= band[1], "peak at {f} Hz outside {band:?}");
         let v = num(&p["receptance"], "peaks_before[].receptance");
-        assert!(
-            v > 0.0 && v <= before * (1.0 + 1e-9),
-            "peak {v} above peak_before {before}"
-        );
+        assert!(v > 0.0 && v <= before * (1.0 + 1e-9), "peak {v} above peak_before {before}");
     }
     if has_absorbers {
         let after = num(&j["peak_after"], "respond: peak_after");
         assert!(after > 0.0 && after.is_finite(), "peak_after = {after}");
     } else {
-        assert!(
-            j["peak_after"].is_null(),
-            "no absorbers: peak_after is null"
-        );
+        assert!(j["peak_after"].is_null(), "no absorbers: peak_after is null");
     }
     assert_files(&out, &["response.csv", "response.json", "frf.svg"]);
 }
@@ -252,20 +181,12 @@ fn respond_example(dir: &Path, model: &Path, has_absorbers: bool) {
 /// `design --json --out`: the absorber contract, peak before and after, and the files. Returns the
 /// report.
 fn design_example(dir: &Path, model: &Path, out: &Path) -> Value {
-    let r = antinode(
-        dir,
-        [
-            OsStr::new("design"),
-            model.as_os_str(),
-            "--json".as_ref(),
-            "--out".as_ref(),
-            out.as_os_str(),
-        ],
-    );
+    let r =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
     r.assert_success("design");
     let j = r.json();
-    let m: Value = serde_json::from_str(&std::fs::read_to_string(model).expect("model readable"))
-        .expect("model is JSON");
+    let m: Value =
+        serde_json::from_str(&std::fs::read_to_string(model).expect("model readable")).expect("model is JSON");
     let spec = &m["study"]["absorber_design"];
     let count = spec["count"].as_u64().unwrap_or(1);
     let mass_each = spec["mass_each"]
@@ -274,43 +195,23 @@ fn design_example(dir: &Path, model: &Path, out: &Path) -> Value {
         .expect("the example gives the absorber mass");
     let targets = j["targets"].as_array().expect("design: targets[]");
     let absorbers = j["absorbers"].as_array().expect("design: absorbers[]");
-    assert_eq!(
-        absorbers.len() as u64,
-        count,
-        "design: as many absorbers as asked"
-    );
+    assert_eq!(absorbers.len() as u64, count, "design: as many absorbers as asked");
     for (i, a) in absorbers.iter().enumerate() {
-        assert!(
-            a["location"]["node"].is_u64(),
-            "absorbers[{i}].location.node is an integer: {}",
-            a["location"]
-        );
-        let xyz = a["location"]["xyz"]
-            .as_array()
-            .expect("absorbers[].location.xyz is an array");
+        assert!(a["location"]["node"].is_u64(), "absorbers[{i}].location.node is an integer: {}", a["location"]);
+        let xyz = a["location"]["xyz"].as_array().expect("absorbers[].location.xyz is an array");
         assert_eq!(xyz.len(), 3, "absorbers[{i}].location.xyz");
         assert!(xyz.iter().all(|v| v.as_f64().is_some_and(f64::is_finite)));
         let dir = &a["direction"];
         assert!(
-            dir.as_str().is_some_and(|s| ["x", "y", "z"].contains(&s))
-                || dir.as_array().is_some_and(|v| v.len() == 3),
+            dir.as_str().is_some_and(|s| ["x", "y", "z"].contains(&s)) || dir.as_array().is_some_and(|v| v.len() == 3),
             "absorbers[{i}].direction = {dir}"
         );
         let mass = num(&a["mass_kg"], "absorbers[].mass_kg");
-        assert!(
-            (mass - mass_each).abs() <= 1e-12 * mass_each,
-            "absorbers[{i}].mass_kg = {mass}, asked {mass_each}"
-        );
+        assert!((mass - mass_each).abs() <= 1e-12 * mass_each, "absorbers[{i}].mass_kg = {mass}, asked {mass_each}");
         let k = num(&a["stiffness_n_per_m"], "absorbers[].stiffness_n_per_m");
-        assert!(
-            k > 0.0 && k.is_finite(),
-            "absorbers[{i}].stiffness_n_per_m = {k}"
-        );
+        assert!(k > 0.0 && k.is_finite(), "absorbers[{i}].stiffness_n_per_m = {k}");
         let c = num(&a["damping_n_s_per_m"], "absorbers[].damping_n_s_per_m");
-        assert!(
-            c > 0.0 && c.is_finite(),
-            "absorbers[{i}].damping_n_s_per_m = {c}"
-        );
+        assert!(c > 0.0 && c.is_finite(), "absorbers[{i}].damping_n_s_per_m = {c}");
         let f = num(&a["tuned_frequency_hz"], "absorbers[].tuned_frequency_hz");
         let f_expected = (k / mass).sqrt() / (2.0 * std::f64::consts::PI);
         assert!(
@@ -325,10 +226,7 @@ fn design_example(dir: &Path, model: &Path, out: &Path) -> Value {
         let f_mode = num(&target["frequency_hz"], "targets[].frequency_hz");
         // A tuned absorber sits close below its mode (Den Hartog: f = 1/(1 + mu)); a factor of 1.5
         // either way only catches a wrong mode or units.
-        assert!(
-            f > f_mode / 1.5 && f < f_mode * 1.5,
-            "absorbers[{i}] tuned to {f} Hz for mode {mode} at {f_mode} Hz"
-        );
+        assert!(f > f_mode / 1.5 && f < f_mode * 1.5, "absorbers[{i}] tuned to {f} Hz for mode {mode} at {f_mode} Hz");
         let mu = num(&a["mass_ratio"], "absorbers[].mass_ratio");
         assert!(mu > 0.0 && mu < 1.0, "absorbers[{i}].mass_ratio = {mu}");
     }
@@ -336,20 +234,8 @@ fn design_example(dir: &Path, model: &Path, out: &Path) -> Value {
     let after = num(&j["peak_after"], "design: peak_after");
     assert!(before > 0.0 && before.is_finite(), "peak_before = {before}");
     assert!(after > 0.0, "peak_after = {after}");
-    assert!(
-        after < before,
-        "peak_after {after} is not below peak_before {before}"
-    );
-    assert_files(
-        out,
-        &[
-            "design.json",
-            "design-result.json",
-            "design.csv",
-            "frf.svg",
-            "design.vtu",
-        ],
-    );
+    assert!(after < before, "peak_after {after} is not below peak_before {before}");
+    assert_files(out, &["design.json", "design-result.json", "design.csv", "frf.svg", "design.vtu"]);
     j
 }
 
@@ -362,11 +248,7 @@ fn happy_path(model_name: &str, has_absorbers: bool) {
     respond_example(dir, &model, has_absorbers);
     design_example(dir, &model, &dir.join("design-out"));
     // Nothing went to the default out/ folder.
-    assert_eq!(
-        entries(dir),
-        set(&["modes-out", "respond-out", "design-out"]),
-        "only the --out folders are written"
-    );
+    assert_eq!(entries(dir), set(&["modes-out", "respond-out", "design-out"]), "only the --out folders are written");
 }
 
 #[test]
@@ -410,12 +292,11 @@ fn round_trip(model_name: &str) {
     );
     let before = num(&design["peak_before"], "design: peak_before");
     let got_before = num(&j["peak_before"], "respond: peak_before");
-    let absorbers_before = serde_json::from_str::<Value>(
-        &std::fs::read_to_string(example(model_name)).expect("model readable"),
-    )
-    .expect("model is JSON")["absorbers"]
-        .as_array()
-        .map_or(0, Vec::len);
+    let absorbers_before =
+        serde_json::from_str::<Value>(&std::fs::read_to_string(example(model_name)).expect("model readable"))
+            .expect("model is JSON")["absorbers"]
+            .as_array()
+            .map_or(0, Vec::len);
     if absorbers_before == 0 {
         // Without absorbers in the original, the bare structure is the design's "before".
         assert!(
@@ -441,10 +322,7 @@ fn schema_prints_json_schema() {
     let r = antinode(tmp.path(), ["schema"]);
     r.assert_success("schema");
     let j = r.json();
-    assert!(
-        j.get("$schema").is_some(),
-        "schema output has a \"$schema\" key"
-    );
+    assert!(j.get("$schema").is_some(), "schema output has a \"$schema\" key");
     assert!(entries(tmp.path()).is_empty(), "schema writes no file");
 }
 
@@ -509,27 +387,13 @@ fn assert_rejected(text: &str, commands: &[&str], expect: &[&str]) {
         );
         assert!(!r.stderr.contains("panicked"), "panic: {context}");
         assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
-        assert!(
-            r.stderr.starts_with("error: "),
-            "the message starts with `error: `: {context}"
-        );
-        assert!(
-            r.stderr.contains("model.json"),
-            "the message names the file: {context}"
-        );
+        assert!(r.stderr.starts_with("error: "), "the message starts with `error: `: {context}");
+        assert!(r.stderr.contains("model.json"), "the message names the file: {context}");
         for e in expect {
             assert!(r.stderr.contains(e), "the message lacks {e:?}: {context}");
         }
-        assert!(
-            entries(&out).is_empty(),
-            "files left in the out folder: {:?}; {context}",
-            entries(&out)
-        );
-        assert_eq!(
-            entries(dir),
-            set(&["model.json"]),
-            "files left in the working folder; {context}"
-        );
+        assert!(entries(&out).is_empty(), "files left in the out folder: {:?}; {context}", entries(&out));
+        assert_eq!(entries(dir), set(&["model.json"]), "files left in the working folder; {context}");
     }
 }
 
@@ -548,28 +412,12 @@ fn base_model_of_bad_input_tests_is_valid() {
     std::fs::write(&model, pretty(&base())).expect("model written");
     antinode(dir, [OsStr::new("check"), model.as_os_str()]).assert_success("check of base model");
     let out = dir.join("out");
-    let r = antinode(
-        dir,
-        [
-            OsStr::new("design"),
-            model.as_os_str(),
-            "--json".as_ref(),
-            "--out".as_ref(),
-            out.as_os_str(),
-        ],
-    );
+    let r =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
     r.assert_success("design of base model");
     let j = r.json();
     assert!(num(&j["peak_after"], "peak_after") < num(&j["peak_before"], "peak_before"));
-    let r = antinode(
-        dir,
-        [
-            OsStr::new("respond"),
-            model.as_os_str(),
-            "--out".as_ref(),
-            out.as_os_str(),
-        ],
-    );
+    let r = antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--out".as_ref(), out.as_os_str()]);
     r.assert_success("respond of base model");
 }
 
@@ -589,12 +437,7 @@ fn rejects_unknown_node_id() {
 fn rejects_unknown_section_name() {
     assert_edit_rejected(
         |m| m["beams"][0]["section"] = json!("flat"),
-        &[
-            "beams[0].section",
-            "section \"flat\"",
-            "not defined",
-            "\"bar\"",
-        ],
+        &["beams[0].section", "section \"flat\"", "not defined", "\"bar\""],
     );
 }
 
@@ -602,12 +445,7 @@ fn rejects_unknown_section_name() {
 fn rejects_unknown_material_name() {
     assert_edit_rejected(
         |m| m["lines"][0]["material"] = json!("steel"),
-        &[
-            "lines[0].material",
-            "material \"steel\"",
-            "not defined",
-            "\"al\"",
-        ],
+        &["lines[0].material", "material \"steel\"", "not defined", "\"al\""],
     );
 }
 
@@ -615,10 +453,7 @@ fn rejects_unknown_material_name() {
 fn rejects_duplicate_node_ids() {
     assert_edit_rejected(
         |m| {
-            m["nodes"]
-                .as_array_mut()
-                .expect("nodes")
-                .push(json!({"id": 1, "xyz": [0.2, 0, 0.1]}));
+            m["nodes"].as_array_mut().expect("nodes").push(json!({"id": 1, "xyz": [0.2, 0, 0.1]}));
         },
         &["nodes[2]", "node 1", "defined twice", "nodes[0]"],
     );
@@ -655,12 +490,7 @@ fn rejects_non_positive_youngs_modulus() {
     for e in [0.0, -7.0e10] {
         assert_edit_rejected(
             |m| m["materials"]["al"]["youngs_modulus"] = json!(e),
-            &[
-                "materials.al",
-                "youngs_modulus",
-                &format!("{e}"),
-                "positive",
-            ],
+            &["materials.al", "youngs_modulus", &format!("{e}"), "positive"],
         );
     }
 }
@@ -695,22 +525,12 @@ fn rejects_non_positive_dimension() {
 fn rejects_tube_wall_thicker_than_radius() {
     assert_edit_rejected(
         |m| m["sections"]["tube"]["circular_tube"]["wall_thickness"] = json!(0.03),
-        &[
-            "sections.tube",
-            "wall_thickness",
-            "0.03",
-            "less than half the outer diameter",
-        ],
+        &["sections.tube", "wall_thickness", "0.03", "less than half the outer diameter"],
     );
     // Exactly the radius is a solid bar, not a tube.
     assert_edit_rejected(
         |m| m["sections"]["tube"]["circular_tube"]["wall_thickness"] = json!(0.025),
-        &[
-            "sections.tube",
-            "wall_thickness",
-            "0.025",
-            "less than half the outer diameter",
-        ],
+        &["sections.tube", "wall_thickness", "0.025", "less than half the outer diameter"],
     );
 }
 
@@ -719,12 +539,7 @@ fn rejects_poisson_ratio_outside_range() {
     for nu in [0.5, 0.7, -1.0, -1.5] {
         assert_edit_rejected(
             |m| m["materials"]["al"]["poisson_ratio"] = json!(nu),
-            &[
-                "materials.al",
-                "poisson_ratio",
-                &format!("{nu}"),
-                "between -1 and 0.5",
-            ],
+            &["materials.al", "poisson_ratio", &format!("{nu}"), "between -1 and 0.5"],
         );
     }
 }
@@ -733,10 +548,7 @@ fn rejects_poisson_ratio_outside_range() {
 fn rejects_zero_length_beam() {
     assert_edit_rejected(
         |m| {
-            m["nodes"]
-                .as_array_mut()
-                .expect("nodes")
-                .push(json!({"id": 3, "xyz": [0.5, 0, 0.1]}));
+            m["nodes"].as_array_mut().expect("nodes").push(json!({"id": 3, "xyz": [0.5, 0, 0.1]}));
             m["beams"]
                 .as_array_mut()
                 .expect("beams")
@@ -751,12 +563,7 @@ fn rejects_orientation_parallel_to_beam() {
     // Beam 1 runs along global Z, from node 1 to node 2.
     assert_edit_rejected(
         |m| m["beams"][0]["orientation"] = json!([0, 0, 2]),
-        &[
-            "beams[0]",
-            "beam 1",
-            "orientation",
-            "parallel to the beam axis",
-        ],
+        &["beams[0]", "beam 1", "orientation", "parallel to the beam axis"],
     );
 }
 
@@ -784,11 +591,7 @@ fn rejects_absorber_with_non_positive_stiffness() {
 fn rejects_location_that_snaps_to_no_node() {
     assert_edit_rejected(
         |m| m["study"]["excitation"][0]["at"] = json!({"xyz": [0.5, 0.5, 0]}),
-        &[
-            "study.excitation[0].at.xyz",
-            "no node lies within",
-            "nearest",
-        ],
+        &["study.excitation[0].at.xyz", "no node lies within", "nearest"],
     );
 }
 
@@ -800,11 +603,7 @@ fn rejects_model_without_mass() {
         "springs": [{"at": {"node": 1}, "stiffness": {"ux": 1000, "uy": 1000, "uz": 1000}},
                     {"at": {"node": 1}, "to": {"node": 2}, "stiffness": {"ux": 500}}]
     });
-    assert_rejected(
-        &pretty(&m),
-        &["check", "design"],
-        &["no mass", "point_masses"],
-    );
+    assert_rejected(&pretty(&m), &["check", "design"], &["no mass", "point_masses"]);
 }
 
 #[test]
@@ -818,37 +617,21 @@ fn rejects_unsupported_mechanism() {
     assert_rejected(
         &pretty(&m),
         &["check", "modes", "respond", "design"],
-        &[
-            "2 independent way(s)",
-            "0 expected",
-            "ux",
-            "rx",
-            "rigid_body_modes",
-        ],
+        &["2 independent way(s)", "0 expected", "ux", "rx", "rigid_body_modes"],
     );
     // Only the axial slide is free.
     m["supports"][0]["fixed"] = json!(["uy", "uz", "rx"]);
     assert_rejected(
         &pretty(&m),
         &["check", "modes", "respond", "design"],
-        &[
-            "1 independent way(s)",
-            "0 expected",
-            "ux",
-            "rigid_body_modes",
-        ],
+        &["1 independent way(s)", "0 expected", "ux", "rigid_body_modes"],
     );
     // Only the spin is free.
     m["supports"][0]["fixed"] = json!(["ux", "uy", "uz"]);
     assert_rejected(
         &pretty(&m),
         &["check", "modes", "respond", "design"],
-        &[
-            "1 independent way(s)",
-            "0 expected",
-            "rx",
-            "rigid_body_modes",
-        ],
+        &["1 independent way(s)", "0 expected", "rx", "rigid_body_modes"],
     );
 }
 
@@ -865,10 +648,7 @@ fn accepts_stated_rigid_body_modes() {
     let dir = tmp.path();
     let model = dir.join("model.json");
     std::fs::write(&model, pretty(&m)).expect("model written");
-    let r = antinode(
-        dir,
-        [OsStr::new("check"), model.as_os_str(), "--json".as_ref()],
-    );
+    let r = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
     r.assert_success("check with rigid_body_modes 2");
     assert_eq!(r.json()["zero_energy_modes"].as_u64(), Some(2));
 }
@@ -878,16 +658,7 @@ fn accepts_stated_rigid_body_modes() {
 fn failed_write_leaves_no_partial_output() {
     for (command, blocked, others) in [
         ("respond", "frf.svg", &["response.csv", "response.json"][..]),
-        (
-            "design",
-            "frf.svg",
-            &[
-                "design.json",
-                "design-result.json",
-                "design.csv",
-                "design.vtu",
-            ][..],
-        ),
+        ("design", "frf.svg", &["design.json", "design-result.json", "design.csv", "design.vtu"][..]),
         ("modes", "modes.json", &["modes.csv", "modes.vtu"][..]),
     ] {
         let tmp = temp();
@@ -896,30 +667,13 @@ fn failed_write_leaves_no_partial_output() {
         // A folder where one output file should go makes its write fail.
         std::fs::create_dir_all(out.join(blocked)).expect("folder made");
         let model = example("interface-example.json");
-        let r = antinode(
-            dir,
-            [
-                OsStr::new(command),
-                model.as_os_str(),
-                "--out".as_ref(),
-                out.as_os_str(),
-            ],
-        );
-        let context = format!(
-            "`antinode {command}` with {blocked} blocked\n--- stdout\n{}\n--- stderr\n{}",
-            r.stdout, r.stderr
-        );
+        let r = antinode(dir, [OsStr::new(command), model.as_os_str(), "--out".as_ref(), out.as_os_str()]);
+        let context =
+            format!("`antinode {command}` with {blocked} blocked\n--- stdout\n{}\n--- stderr\n{}", r.stdout, r.stderr);
         assert!(!r.stderr.contains("panicked"), "panic: {context}");
         assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
-        assert!(
-            r.stderr.contains(blocked),
-            "the message names {blocked}: {context}"
-        );
-        assert_eq!(
-            entries(&out),
-            set(&[blocked]),
-            "only the blocking folder is left, none of {others:?}: {context}"
-        );
+        assert!(r.stderr.contains(blocked), "the message names {blocked}: {context}");
+        assert_eq!(entries(&out), set(&[blocked]), "only the blocking folder is left, none of {others:?}: {context}");
     }
 }
 
@@ -936,10 +690,7 @@ fn rejects_malformed_json_with_line_and_column() {
 
 /// The line (from 1) of the first line of `text` containing `what`.
 fn line_of(text: &str, what: &str) -> usize {
-    text.lines()
-        .position(|l| l.contains(what))
-        .map(|i| i + 1)
-        .unwrap_or_else(|| panic!("{what} is not in the text"))
+    text.lines().position(|l| l.contains(what)).map(|i| i + 1).unwrap_or_else(|| panic!("{what} is not in the text"))
 }
 
 #[test]
@@ -951,41 +702,23 @@ fn rejects_unknown_field() {
     obj.insert("matrials".into(), materials);
     let text = pretty(&m);
     let line = format!("line {}, column", line_of(&text, "\"matrials\""));
-    assert_rejected(
-        &text,
-        &["check", "design"],
-        &["unknown field `matrials`", "`materials`", &line],
-    );
+    assert_rejected(&text, &["check", "design"], &["unknown field `matrials`", "`materials`", &line]);
     // Nested: the JSON path names the item.
     let mut m = base();
     m["absorbers"][0]["stifness"] = json!(1.0);
     let text = pretty(&m);
     let line = format!("line {}, column", line_of(&text, "\"stifness\""));
-    assert_rejected(
-        &text,
-        &["check", "design"],
-        &["absorbers[0]", "unknown field `stifness`", &line],
-    );
+    assert_rejected(&text, &["check", "design"], &["absorbers[0]", "unknown field `stifness`", &line]);
 }
 
 #[test]
 fn rejects_band_with_low_above_high() {
-    assert_edit_rejected(
-        |m| m["study"]["band_hz"] = json!([400, 20]),
-        &["study.band_hz", "[400, 20]", "low < high"],
-    );
+    assert_edit_rejected(|m| m["study"]["band_hz"] = json!([400, 20]), &["study.band_hz", "[400, 20]", "low < high"]);
 }
 
 #[test]
 fn respond_rejects_study_without_excitation() {
     let mut m = base();
-    m["study"]
-        .as_object_mut()
-        .expect("study")
-        .remove("excitation");
-    assert_rejected(
-        &pretty(&m),
-        &["respond", "design"],
-        &["study.excitation", "no excitation"],
-    );
+    m["study"].as_object_mut().expect("study").remove("excitation");
+    assert_rejected(&pretty(&m), &["respond", "design"], &["study.excitation", "no excitation"]);
 }

@@ -52,9 +52,7 @@ pub enum ModelError {
         hint: String,
     },
     /// Two items with one id or name.
-    #[error(
-        "{at}: {kind} {id} is defined twice (first at {first}); give each {kind} its own {key}"
-    )]
+    #[error("{at}: {kind} {id} is defined twice (first at {first}); give each {kind} its own {key}")]
     Duplicate {
         /// JSON path of the second definition.
         at: String,
@@ -93,9 +91,7 @@ pub enum ModelError {
         b: u64,
     },
     /// An orientation vector along the beam axis.
-    #[error(
-        "{element}: the orientation vector {vector:?} is parallel to the beam axis; give a vector across the beam"
-    )]
+    #[error("{element}: the orientation vector {vector:?} is parallel to the beam axis; give a vector across the beam")]
     OrientationParallel {
         /// The element: JSON path and label.
         element: String,

@@ -13,10 +13,7 @@ use crate::model::Model;
 /// [`ModelError::Io`] if the file cannot be read, [`ModelError::Parse`] with the JSON path, line and
 /// column of the first problem otherwise.
 pub fn load_model(path: &Path) -> Result<Model, ModelError> {
-    let text = std::fs::read_to_string(path).map_err(|source| ModelError::Io {
-        path: path.to_path_buf(),
-        source,
-    })?;
+    let text = std::fs::read_to_string(path).map_err(|source| ModelError::Io { path: path.to_path_buf(), source })?;
     parse_model(&text, path)
 }
 
@@ -47,13 +44,7 @@ fn parse_error(path: &Path, json_path: String, e: &serde_json::Error) -> ModelEr
         Some(pos) => full[..pos].to_string(),
         None => full,
     };
-    ModelError::Parse {
-        path: path.to_path_buf(),
-        json_path,
-        line: e.line(),
-        column: e.column(),
-        message,
-    }
+    ModelError::Parse { path: path.to_path_buf(), json_path, line: e.line(), column: e.column(), message }
 }
 
 /// The JSON Schema of the model file, as pretty JSON text ending in a newline.
@@ -74,10 +65,7 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
     };
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_default();
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
     let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
     let result = (|| {
         let mut f = std::fs::File::create(&tmp)?;
@@ -97,11 +85,9 @@ mod tests {
 
     #[test]
     fn parse_error_names_json_path_and_line() {
-        let text = "{\n  \"materials\": {\"al\": {\"youngs_modulus\": \"big\", \"poisson_ratio\": 0.3, \"density\": 2700}}\n}";
-        let err = parse_model(text, Path::new("m.json"))
-            .err()
-            .map(|e| e.to_string())
-            .unwrap_or_default();
+        let text =
+            "{\n  \"materials\": {\"al\": {\"youngs_modulus\": \"big\", \"poisson_ratio\": 0.3, \"density\": 2700}}\n}";
+        let err = parse_model(text, Path::new("m.json")).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(err.contains("materials.al.youngs_modulus"), "{err}");
         assert!(err.contains("line 2"), "{err}");
         assert!(err.starts_with("m.json"), "{err}");
@@ -110,10 +96,7 @@ mod tests {
     #[test]
     fn unknown_fields_are_rejected() {
         let text = r#"{"nodez": []}"#;
-        let err = parse_model(text, Path::new("m.json"))
-            .err()
-            .map(|e| e.to_string())
-            .unwrap_or_default();
+        let err = parse_model(text, Path::new("m.json")).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(err.contains("unknown field `nodez`"), "{err}");
     }
 

@@ -41,17 +41,16 @@ mod vtk;
 pub use error::ModelError;
 pub use io::{load_model, model_schema_json, parse_model, write_atomic};
 pub use model::{
-    Absorber, AbsorberDesign, AutoWord, Axis, Beam, CandidateSet, CircleSection,
-    CircularTubeSection, Direction, Dof, DofValues, ElementId, ExplicitSection, Fixity,
-    FixityPreset, Force, Ground, Line, Location, MassMatrix, Material, Model, Node, NodeId,
-    Objective, PointMass, RectangleSection, RectangularTubeSection, ResponsePoint, Section, Spring,
-    SpringEnd, Study, Support, Targets,
+    Absorber, AbsorberDesign, AutoWord, Axis, Beam, CandidateSet, CircleSection, CircularTubeSection, Direction, Dof,
+    DofValues, ElementId, ExplicitSection, Fixity, FixityPreset, Force, Ground, Line, Location, MassMatrix, Material,
+    Model, Node, NodeId, Objective, PointMass, RectangleSection, RectangularTubeSection, ResponsePoint, Section,
+    Spring, SpringEnd, Study, Support, Targets,
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes,
-    MaterialProperties, NodalMass, PointForce, ResponseSpec, SpringElement, Structure,
-    StructureNode, StudySpec, TargetSpec, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, MaterialProperties, NodalMass,
+    PointForce, ResponseSpec, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, bounding_diagonal,
+    distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};

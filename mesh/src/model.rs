@@ -9,16 +9,12 @@ use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 /// Identifier of a node, as written in the model file.
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize, JsonSchema,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize, JsonSchema)]
 #[serde(transparent)]
 pub struct NodeId(pub u64);
 
 /// Identifier of a beam element, as written in the model file.
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize, JsonSchema,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize, JsonSchema)]
 #[serde(transparent)]
 pub struct ElementId(pub u64);
 
@@ -280,10 +276,7 @@ pub struct Location {
 impl Location {
     /// The location of a node id.
     pub fn node(id: NodeId) -> Self {
-        Self {
-            node: Some(id),
-            ..Self::default()
-        }
+        Self { node: Some(id), ..Self::default() }
     }
 }
 
@@ -310,9 +303,7 @@ pub enum Direction {
 }
 
 /// One of the six degrees of freedom of a node, in global axes.
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize, JsonSchema,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "lowercase")]
 pub enum Dof {
     /// Translation along X.

@@ -121,9 +121,7 @@ pub fn section_properties(section: &Section, poisson_ratio: f64) -> SectionPrope
             second_moment_y: p.second_moment_y,
             second_moment_z: p.second_moment_z,
             torsion_constant: p.torsion_constant,
-            polar_moment: p
-                .polar_moment
-                .unwrap_or(p.second_moment_y + p.second_moment_z),
+            polar_moment: p.polar_moment.unwrap_or(p.second_moment_y + p.second_moment_z),
             shear_area_y: p.shear_area_y,
             shear_area_z: p.shear_area_z,
         },
@@ -180,11 +178,7 @@ mod tests {
 
     #[test]
     fn rectangle_axes_follow_height_along_y() {
-        let s = Section::Rectangle(RectangleSection {
-            width: 0.05,
-            height: 0.01,
-            shear_deformation: true,
-        });
+        let s = Section::Rectangle(RectangleSection { width: 0.05, height: 0.01, shear_deformation: true });
         let p = section_properties(&s, 0.3);
         assert!(rel(p.second_moment_z, 0.05 * 0.01f64.powi(3) / 12.0) < 1e-12);
         assert!(rel(p.second_moment_y, 0.01 * 0.05f64.powi(3) / 12.0) < 1e-12);

@@ -148,10 +148,7 @@ impl DirectionSpec {
             Axis::Y => [0.0, 1.0, 0.0],
             Axis::Z => [0.0, 0.0, 1.0],
         };
-        Self {
-            given: Direction::Axis(axis),
-            unit,
-        }
+        Self { given: Direction::Axis(axis), unit }
     }
 
     /// Short text: `x`, `y`, `z` or the vector.

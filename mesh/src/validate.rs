@@ -5,14 +5,14 @@ use std::collections::{BTreeMap, HashMap};
 
 use crate::error::ModelError;
 use crate::model::{
-    CandidateSet, Direction, ElementId, Fixity, FixityPreset, Location, MassMatrix, Model, NodeId,
-    Objective, Section, SpringEnd, Targets,
+    CandidateSet, Direction, ElementId, Fixity, FixityPreset, Location, MassMatrix, Model, NodeId, Objective, Section,
+    SpringEnd, Targets,
 };
 use crate::section::section_properties;
 use crate::structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes,
-    MaterialProperties, NodalMass, PointForce, ResponseSpec, SpringElement, Structure,
-    StructureNode, StudySpec, TargetSpec, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, MaterialProperties, NodalMass,
+    PointForce, ResponseSpec, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, bounding_diagonal,
+    distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -93,12 +93,7 @@ fn check_positive(at: &str, field: &'static str, value: f64) -> Result<(), Model
     if value.is_finite() && value > 0.0 {
         Ok(())
     } else {
-        Err(ModelError::OutOfRange {
-            at: at.to_string(),
-            field,
-            value,
-            allowed: "a positive finite number".into(),
-        })
+        Err(ModelError::OutOfRange { at: at.to_string(), field, value, allowed: "a positive finite number".into() })
     }
 }
 
@@ -132,20 +127,13 @@ fn check_point(at: &str, p: [f64; 3]) -> Result<(), ModelError> {
     if p.iter().all(|v| v.is_finite()) {
         Ok(())
     } else {
-        Err(ModelError::Invalid {
-            at: at.to_string(),
-            message: format!("coordinates {p:?} are not finite"),
-        })
+        Err(ModelError::Invalid { at: at.to_string(), message: format!("coordinates {p:?} are not finite") })
     }
 }
 
 fn names_hint<'k>(keys: impl Iterator<Item = &'k String>) -> String {
     let names: Vec<String> = keys.map(|k| format!("\"{k}\"")).collect();
-    if names.is_empty() {
-        " (none is defined)".into()
-    } else {
-        format!(" (defined: {})", names.join(", "))
-    }
+    if names.is_empty() { " (none is defined)".into() } else { format!(" (defined: {})", names.join(", ")) }
 }
 
 /// Resolves a direction to a unit vector.
@@ -160,10 +148,7 @@ fn direction(at: &str, d: &Direction) -> Result<DirectionSpec, ModelError> {
                     message: format!("direction {v:?} is not a non-zero finite vector"),
                 });
             }
-            Ok(DirectionSpec {
-                given: d.clone(),
-                unit: v.map(|x| x / n),
-            })
+            Ok(DirectionSpec { given: d.clone(), unit: v.map(|x| x / n) })
         }
     }
 }
@@ -210,13 +195,8 @@ impl<'a> Builder<'a> {
             check_point(&format!("lines[{i}].from"), l.from)?;
             check_point(&format!("lines[{i}].to"), l.to)?;
         }
-        let size = bounding_diagonal(
-            model
-                .nodes
-                .iter()
-                .map(|n| n.xyz)
-                .chain(model.lines.iter().flat_map(|l| [l.from, l.to])),
-        );
+        let size =
+            bounding_diagonal(model.nodes.iter().map(|n| n.xyz).chain(model.lines.iter().flat_map(|l| [l.from, l.to])));
         let tol = (MERGE_TOLERANCE * size).max(1e-12);
         Ok(Self {
             model,
@@ -248,10 +228,7 @@ impl<'a> Builder<'a> {
             self.node_path.insert(n.id, at);
             self.node_index.insert(n.id, self.nodes.len());
             self.grid.insert(n.xyz, self.nodes.len());
-            self.nodes.push(StructureNode {
-                id: n.id,
-                xyz: n.xyz,
-            });
+            self.nodes.push(StructureNode { id: n.id, xyz: n.xyz });
         }
         Ok(())
     }
@@ -272,17 +249,8 @@ impl<'a> Builder<'a> {
             }
         }
         const SHOWN: usize = 8;
-        let mut parts: Vec<String> = runs
-            .iter()
-            .take(SHOWN)
-            .map(|&(a, b)| {
-                if a == b {
-                    a.to_string()
-                } else {
-                    format!("{a} to {b}")
-                }
-            })
-            .collect();
+        let mut parts: Vec<String> =
+            runs.iter().take(SHOWN).map(|&(a, b)| if a == b { a.to_string() } else { format!("{a} to {b}") }).collect();
         if runs.len() > SHOWN {
             parts.push("...".into());
         }
@@ -290,27 +258,21 @@ impl<'a> Builder<'a> {
     }
 
     fn material(&self, at: &str, name: &str) -> Result<MaterialProperties, ModelError> {
-        self.materials
-            .get(name)
-            .copied()
-            .ok_or_else(|| ModelError::UnknownName {
-                at: at.to_string(),
-                kind: "material",
-                name: name.to_string(),
-                hint: names_hint(self.model.materials.keys()),
-            })
+        self.materials.get(name).copied().ok_or_else(|| ModelError::UnknownName {
+            at: at.to_string(),
+            kind: "material",
+            name: name.to_string(),
+            hint: names_hint(self.model.materials.keys()),
+        })
     }
 
     fn section(&self, at: &str, name: &str) -> Result<&'a Section, ModelError> {
-        self.model
-            .sections
-            .get(name)
-            .ok_or_else(|| ModelError::UnknownName {
-                at: at.to_string(),
-                kind: "section",
-                name: name.to_string(),
-                hint: names_hint(self.model.sections.keys()),
-            })
+        self.model.sections.get(name).ok_or_else(|| ModelError::UnknownName {
+            at: at.to_string(),
+            kind: "section",
+            name: name.to_string(),
+            hint: names_hint(self.model.sections.keys()),
+        })
     }
 
     fn orientation(
@@ -326,20 +288,13 @@ impl<'a> Builder<'a> {
             Some(v) => (v, true),
             None => {
                 let z = [0.0, 0.0, 1.0];
-                if norm(cross(axis, z)) > 1e-3 * axis_len {
-                    (z, false)
-                } else {
-                    ([1.0, 0.0, 0.0], false)
-                }
+                if norm(cross(axis, z)) > 1e-3 * axis_len { (z, false) } else { ([1.0, 0.0, 0.0], false) }
             }
         };
         let c = norm(cross(axis, v));
         if !(c.is_finite() && c > 1e-6 * axis_len * norm(v)) {
             if user {
-                return Err(ModelError::OrientationParallel {
-                    element: label.to_string(),
-                    vector: v,
-                });
+                return Err(ModelError::OrientationParallel { element: label.to_string(), vector: v });
             }
             return Err(ModelError::Invalid {
                 at: label.to_string(),
@@ -350,26 +305,13 @@ impl<'a> Builder<'a> {
     }
 
     fn beam_element(&self, src: BeamSource<'_>) -> Result<BeamElement, ModelError> {
-        let BeamSource {
-            id,
-            label,
-            at,
-            nodes,
-            section,
-            material,
-            orientation,
-            line,
-        } = src;
+        let BeamSource { id, label, at, nodes, section, material, orientation, line } = src;
         let sec = self.section(&format!("{at}.section"), section)?;
         let mat = self.material(&format!("{at}.material"), material)?;
         let (a, b) = (self.nodes[nodes[0]].xyz, self.nodes[nodes[1]].xyz);
         if distance(a, b) <= self.grid.tolerance {
             return Err(ModelError::ZeroLength {
-                element: if line.is_some() {
-                    format!("{at} ({label})")
-                } else {
-                    format!("{at}.nodes ({label})")
-                },
+                element: if line.is_some() { format!("{at} ({label})") } else { format!("{at}.nodes ({label})") },
                 a: self.nodes[nodes[0]].id.0,
                 b: self.nodes[nodes[1]].id.0,
             });
@@ -377,8 +319,7 @@ impl<'a> Builder<'a> {
         if let Some(v) = orientation {
             check_point(&format!("{at}.orientation"), v)?;
         }
-        let orientation =
-            self.orientation(&format!("{at}.orientation ({label})"), a, b, orientation)?;
+        let orientation = self.orientation(&format!("{at}.orientation ({label})"), a, b, orientation)?;
         Ok(BeamElement {
             id,
             label,
@@ -393,28 +334,13 @@ impl<'a> Builder<'a> {
     }
 
     fn lines(&mut self) -> Result<(), ModelError> {
-        let mut next_node = self
-            .model
-            .nodes
-            .iter()
-            .map(|n| n.id.0)
-            .max()
-            .map_or(1, |m| m + 1);
-        let mut next_elem = self
-            .model
-            .beams
-            .iter()
-            .map(|b| b.id.0)
-            .max()
-            .map_or(1, |m| m + 1);
+        let mut next_node = self.model.nodes.iter().map(|n| n.id.0).max().map_or(1, |m| m + 1);
+        let mut next_elem = self.model.beams.iter().map(|b| b.id.0).max().map_or(1, |m| m + 1);
         let model = self.model;
         for (li, l) in model.lines.iter().enumerate() {
             let at = format!("lines[{li}]");
             if l.name.trim().is_empty() {
-                return Err(ModelError::Invalid {
-                    at,
-                    message: "a line needs a non-empty name".into(),
-                });
+                return Err(ModelError::Invalid { at, message: "a line needs a non-empty name".into() });
             }
             if let Some(&first) = self.line_index.get(l.name.as_str()) {
                 return Err(ModelError::Duplicate {
@@ -481,12 +407,7 @@ impl<'a> Builder<'a> {
                 self.beams.push(e);
             }
             self.line_index.insert(l.name.as_str(), line_no);
-            self.lines.push(LineNodes {
-                name: l.name.clone(),
-                nodes: idx,
-                from: l.from,
-                to: l.to,
-            });
+            self.lines.push(LineNodes { name: l.name.clone(), nodes: idx, from: l.from, to: l.to });
         }
         Ok(())
     }
@@ -509,15 +430,11 @@ impl<'a> Builder<'a> {
             seen.insert(b.id, i);
             let mut nodes = [0usize; 2];
             for k in 0..2 {
-                nodes[k] =
-                    *self
-                        .node_index
-                        .get(&b.nodes[k])
-                        .ok_or_else(|| ModelError::UnknownNode {
-                            at: format!("{at}.nodes[{k}]"),
-                            id: b.nodes[k].0,
-                            hint: self.node_ids_hint(),
-                        })?;
+                nodes[k] = *self.node_index.get(&b.nodes[k]).ok_or_else(|| ModelError::UnknownNode {
+                    at: format!("{at}.nodes[{k}]"),
+                    id: b.nodes[k].0,
+                    hint: self.node_ids_hint(),
+                })?;
             }
             let e = self.beam_element(BeamSource {
                 id: b.id,
@@ -539,15 +456,13 @@ impl<'a> Builder<'a> {
 
     /// Resolves a location to a node index.
     fn locate(&mut self, at: &str, loc: &Location) -> Result<usize, ModelError> {
-        let forms = [
-            loc.node.is_some(),
-            loc.xyz.is_some(),
-            loc.line.is_some() || loc.at.is_some(),
-        ];
+        let forms = [loc.node.is_some(), loc.xyz.is_some(), loc.line.is_some() || loc.at.is_some()];
         if forms.iter().filter(|&&f| f).count() != 1 {
             return Err(ModelError::Invalid {
                 at: at.to_string(),
-                message: "give exactly one of {\"node\": id}, {\"xyz\": [x, y, z]} or {\"line\": name, \"at\": fraction}".into(),
+                message:
+                    "give exactly one of {\"node\": id}, {\"xyz\": [x, y, z]} or {\"line\": name, \"at\": fraction}"
+                        .into(),
             });
         }
         if loc.tolerance.is_some() && loc.xyz.is_none() {
@@ -557,15 +472,11 @@ impl<'a> Builder<'a> {
             });
         }
         if let Some(id) = loc.node {
-            return self
-                .node_index
-                .get(&id)
-                .copied()
-                .ok_or_else(|| ModelError::UnknownNode {
-                    at: format!("{at}.node"),
-                    id: id.0,
-                    hint: self.node_ids_hint(),
-                });
+            return self.node_index.get(&id).copied().ok_or_else(|| ModelError::UnknownNode {
+                at: format!("{at}.node"),
+                id: id.0,
+                hint: self.node_ids_hint(),
+            });
         }
         if let Some(p) = loc.xyz {
             check_point(&format!("{at}.xyz"), p)?;
@@ -598,11 +509,7 @@ impl<'a> Builder<'a> {
     }
 
     fn snap_tolerance(&self) -> f64 {
-        (SNAP_FRACTION
-            * self
-                .size
-                .max(bounding_diagonal(self.nodes.iter().map(|n| n.xyz))))
-        .max(1e-9)
+        (SNAP_FRACTION * self.size.max(bounding_diagonal(self.nodes.iter().map(|n| n.xyz)))).max(1e-9)
     }
 
     fn snap(&self, at: &str, p: [f64; 3], tol: f64) -> Result<usize, ModelError> {
@@ -622,23 +529,17 @@ impl<'a> Builder<'a> {
                 distance: d,
                 tolerance: tol,
             }),
-            None => Err(ModelError::Invalid {
-                at: at.to_string(),
-                message: "the model has no nodes".into(),
-            }),
+            None => Err(ModelError::Invalid { at: at.to_string(), message: "the model has no nodes".into() }),
         }
     }
 
     fn line(&self, at: &str, name: &str) -> Result<usize, ModelError> {
-        self.line_index
-            .get(name)
-            .copied()
-            .ok_or_else(|| ModelError::UnknownName {
-                at: at.to_string(),
-                kind: "line",
-                name: name.to_string(),
-                hint: names_hint(self.model.lines.iter().map(|l| &l.name)),
-            })
+        self.line_index.get(name).copied().ok_or_else(|| ModelError::UnknownName {
+            at: at.to_string(),
+            kind: "line",
+            name: name.to_string(),
+            hint: names_hint(self.model.lines.iter().map(|l| &l.name)),
+        })
     }
 
     fn supports(&mut self) -> Result<Vec<[bool; 6]>, ModelError> {
@@ -704,16 +605,10 @@ impl<'a> Builder<'a> {
             if k.iter().all(|&v| v == 0.0) {
                 return Err(ModelError::Invalid {
                     at: format!("{at}.stiffness"),
-                    message: "give at least one positive stiffness (ux, uy, uz, rx, ry or rz)"
-                        .into(),
+                    message: "give at least one positive stiffness (ux, uy, uz, rx, ry or rz)".into(),
                 });
             }
-            out.push(SpringElement {
-                label: at,
-                node,
-                other,
-                stiffness: k,
-            });
+            out.push(SpringElement { label: at, node, other, stiffness: k });
         }
         Ok(out)
     }
@@ -730,16 +625,9 @@ impl<'a> Builder<'a> {
                 check_non_negative(&at, "inertia", v)?;
             }
             if p.mass == 0.0 && inertia.iter().all(|&v| v == 0.0) {
-                return Err(ModelError::Invalid {
-                    at,
-                    message: "mass and inertia are all zero".into(),
-                });
+                return Err(ModelError::Invalid { at, message: "mass and inertia are all zero".into() });
             }
-            out.push(NodalMass {
-                node,
-                mass: p.mass,
-                inertia,
-            });
+            out.push(NodalMass { node, mass: p.mass, inertia });
         }
         Ok(out)
     }
@@ -770,23 +658,13 @@ impl<'a> Builder<'a> {
                 }
                 (None, None) => AbsorberDamping::None,
             };
-            let name = a
-                .name
-                .clone()
-                .unwrap_or_else(|| format!("absorber {}", i + 1));
+            let name = a.name.clone().unwrap_or_else(|| format!("absorber {}", i + 1));
             if damping == AbsorberDamping::None {
                 self.warnings.push(format!(
                     "{at} (\"{name}\") has no damping: its response peaks are unbounded at the two coupled frequencies"
                 ));
             }
-            out.push(AbsorberSpec {
-                name,
-                node,
-                direction: dir,
-                mass: a.mass,
-                stiffness: a.stiffness,
-                damping,
-            });
+            out.push(AbsorberSpec { name, node, direction: dir, mass: a.mass, stiffness: a.stiffness, damping });
         }
         Ok(out)
     }
@@ -796,9 +674,7 @@ impl<'a> Builder<'a> {
         if !(lo.is_finite() && hi.is_finite() && lo >= 0.0 && hi > lo) {
             return Err(ModelError::Invalid {
                 at: "study.band_hz".into(),
-                message: format!(
-                    "[{lo}, {hi}] is not a band; give [low, high] with 0 <= low < high, in Hz"
-                ),
+                message: format!("[{lo}, {hi}] is not a band; give [low, high] with 0 <= low < high, in Hz"),
             });
         }
         let zeta = s.modal_damping_ratio.unwrap_or(DEFAULT_MODAL_DAMPING_RATIO);
@@ -834,12 +710,7 @@ impl<'a> Builder<'a> {
                     allowed: "a finite angle in degrees".into(),
                 });
             }
-            excitation.push(PointForce {
-                node,
-                direction: dir,
-                amplitude: f.amplitude,
-                phase_rad: phase.to_radians(),
-            });
+            excitation.push(PointForce { node, direction: dir, amplitude: f.amplitude, phase_rad: phase.to_radians() });
         }
         let mut response_points = Vec::new();
         for (i, r) in s.response_points.iter().enumerate() {
@@ -847,11 +718,7 @@ impl<'a> Builder<'a> {
             let node = self.locate(&format!("{at}.at"), &r.at)?;
             let dir = direction(&format!("{at}.direction"), &r.direction)?;
             let name = r.name.clone().unwrap_or_else(|| format!("point {}", i + 1));
-            response_points.push(ResponseSpec {
-                name,
-                node,
-                direction: dir,
-            });
+            response_points.push(ResponseSpec { name, node, direction: dir });
         }
         let design = match &s.absorber_design {
             Some(d) => Some(self.design(d)?),
@@ -870,10 +737,7 @@ impl<'a> Builder<'a> {
     fn design(&mut self, d: &crate::model::AbsorberDesign) -> Result<DesignSpec, ModelError> {
         let at = "study.absorber_design";
         if d.count == 0 {
-            return Err(ModelError::Invalid {
-                at: at.into(),
-                message: "count must be at least 1".into(),
-            });
+            return Err(ModelError::Invalid { at: at.into(), message: "count must be at least 1".into() });
         }
         let mass_each = match (d.mass_each, d.total_mass) {
             (Some(m), None) => {
@@ -887,8 +751,7 @@ impl<'a> Builder<'a> {
             _ => {
                 return Err(ModelError::Invalid {
                     at: at.into(),
-                    message: "give the absorber mass as mass_each or as total_mass (exactly one)"
-                        .into(),
+                    message: "give the absorber mass as mass_each or as total_mass (exactly one)".into(),
                 });
             }
         };
@@ -898,8 +761,7 @@ impl<'a> Builder<'a> {
                 if list.is_empty() {
                     return Err(ModelError::Invalid {
                         at: format!("{at}.targets"),
-                        message: "the list of target modes is empty; give mode numbers or \"auto\""
-                            .into(),
+                        message: "the list of target modes is empty; give mode numbers or \"auto\"".into(),
                     });
                 }
                 if let Some(&bad) = list.iter().find(|&&m| m == 0) {
@@ -924,10 +786,7 @@ impl<'a> Builder<'a> {
             let cat = format!("{at}.candidates[{i}]");
             let found = self.candidate_nodes(&cat, c)?;
             if found.is_empty() {
-                return Err(ModelError::Invalid {
-                    at: cat,
-                    message: "this candidate range holds no node".into(),
-                });
+                return Err(ModelError::Invalid { at: cat, message: "this candidate range holds no node".into() });
             }
             candidates.extend(found);
         }
@@ -964,11 +823,7 @@ impl<'a> Builder<'a> {
     }
 
     fn candidate_nodes(&mut self, at: &str, c: &CandidateSet) -> Result<Vec<usize>, ModelError> {
-        let forms = [
-            c.line.is_some() || c.from.is_some() || c.to.is_some(),
-            c.node.is_some(),
-            c.xyz.is_some(),
-        ];
+        let forms = [c.line.is_some() || c.from.is_some() || c.to.is_some(), c.node.is_some(), c.xyz.is_some()];
         if forms.iter().filter(|&&f| f).count() != 1 {
             return Err(ModelError::Invalid {
                 at: at.to_string(),
@@ -980,17 +835,11 @@ impl<'a> Builder<'a> {
             return Ok(vec![self.locate(at, &loc)?]);
         }
         if let Some(p) = c.xyz {
-            let loc = Location {
-                xyz: Some(p),
-                ..Location::default()
-            };
+            let loc = Location { xyz: Some(p), ..Location::default() };
             return Ok(vec![self.locate(at, &loc)?]);
         }
         let Some(name) = &c.line else {
-            return Err(ModelError::Invalid {
-                at: at.to_string(),
-                message: "a line range needs \"line\"".into(),
-            });
+            return Err(ModelError::Invalid { at: at.to_string(), message: "a line range needs \"line\"".into() });
         };
         let from = c.from.unwrap_or(0.0);
         let to = c.to.unwrap_or(1.0);
@@ -1087,10 +936,7 @@ fn add_connectivity_warnings(s: &mut Structure) {
     for p in &s.point_masses {
         used[p.node] = true;
     }
-    let unused: Vec<String> = (0..s.nodes.len())
-        .filter(|&i| !used[i])
-        .map(|i| s.nodes[i].id.to_string())
-        .collect();
+    let unused: Vec<String> = (0..s.nodes.len()).filter(|&i| !used[i]).map(|i| s.nodes[i].id.to_string()).collect();
     if !unused.is_empty() {
         let shown: Vec<&str> = unused.iter().take(10).map(String::as_str).collect();
         s.warnings.push(format!(
@@ -1104,8 +950,7 @@ fn add_connectivity_warnings(s: &mut Structure) {
     let mut stocky = Vec::new();
     for (li, l) in s.lines.iter().enumerate() {
         if let Some(b) = s.beams.iter().find(|b| b.line == Some(li)) {
-            let r =
-                (b.section.second_moment_y.max(b.section.second_moment_z) / b.section.area).sqrt();
+            let r = (b.section.second_moment_y.max(b.section.second_moment_z) / b.section.area).sqrt();
             if b.section.shear_area_y.is_none() && l.length() / r < 20.0 {
                 stocky.push(format!("line \"{}\" (L/r = {:.1})", l.name, l.length() / r));
             }
@@ -1125,11 +970,7 @@ fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
 }
 
 fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
-    [
-        a[1] * b[2] - a[2] * b[1],
-        a[2] * b[0] - a[0] * b[2],
-        a[0] * b[1] - a[1] * b[0],
-    ]
+    [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]]
 }
 
 fn norm(a: [f64; 3]) -> f64 {
@@ -1145,11 +986,7 @@ struct PointGrid {
 
 impl PointGrid {
     fn new(tolerance: f64) -> Self {
-        Self {
-            tolerance,
-            cell: 4.0 * tolerance,
-            buckets: HashMap::new(),
-        }
+        Self { tolerance, cell: 4.0 * tolerance, buckets: HashMap::new() }
     }
 
     fn key(&self, p: [f64; 3]) -> [i64; 3] {
@@ -1170,9 +1007,7 @@ impl PointGrid {
                 for dz in -1..=1 {
                     if let Some(list) = self.buckets.get(&[k[0] + dx, k[1] + dy, k[2] + dz]) {
                         for &i in list {
-                            if distance(nodes[i].xyz, p) <= self.tolerance
-                                && best.is_none_or(|b| i < b)
-                            {
+                            if distance(nodes[i].xyz, p) <= self.tolerance && best.is_none_or(|b| i < b) {
                                 best = Some(i);
                             }
                         }

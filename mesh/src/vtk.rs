@@ -50,11 +50,7 @@ pub mod kind {
 ///
 /// # Errors
 /// [`ModelError::Invalid`] if a field does not have one value per node.
-pub fn build_vtu(
-    structure: &Structure,
-    vectors: &[NodalVectors],
-    scalars: &[NodalScalars],
-) -> Result<Vtk, ModelError> {
+pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[NodalScalars]) -> Result<Vtk, ModelError> {
     let n = structure.nodes.len();
     for v in vectors {
         if v.values.len() != n {
@@ -136,17 +132,8 @@ pub fn build_vtu(
         file_path: None,
         data: DataSet::inline(UnstructuredGridPiece {
             points: IOBuffer::F64(points),
-            cells: Cells {
-                cell_verts: VertexNumbers::XML {
-                    connectivity: conn,
-                    offsets,
-                },
-                types,
-            },
-            data: Attributes {
-                point: point_data,
-                cell: cell_data,
-            },
+            cells: Cells { cell_verts: VertexNumbers::XML { connectivity: conn, offsets }, types },
+            data: Attributes { point: point_data, cell: cell_data },
         }),
     })
 }
@@ -164,14 +151,8 @@ pub fn write_vtu(
 ) -> Result<(), ModelError> {
     let vtk = build_vtu(structure, vectors, scalars)?;
     let mut bytes = Vec::new();
-    vtk.write_xml(&mut bytes).map_err(|e| ModelError::Write {
-        path: path.to_path_buf(),
-        message: e.to_string(),
-    })?;
-    write_atomic(path, &bytes).map_err(|e| ModelError::Write {
-        path: path.to_path_buf(),
-        message: e.to_string(),
-    })
+    vtk.write_xml(&mut bytes).map_err(|e| ModelError::Write { path: path.to_path_buf(), message: e.to_string() })?;
+    write_atomic(path, &bytes).map_err(|e| ModelError::Write { path: path.to_path_buf(), message: e.to_string() })
 }
 
 #[cfg(test)]
@@ -190,27 +171,16 @@ mod tests {
         }"#;
         let model = parse_model(text, Path::new("t.json")).ok();
         let s = model.as_ref().and_then(|m| validate(m).ok());
-        let Some(s) = s else {
-            panic!("test model must be valid")
-        };
-        let field = NodalVectors {
-            name: "mode_1".into(),
-            values: (0..5).map(|i| [0.0, 0.0, i as f64]).collect(),
-        };
+        let Some(s) = s else { panic!("test model must be valid") };
+        let field = NodalVectors { name: "mode_1".into(), values: (0..5).map(|i| [0.0, 0.0, i as f64]).collect() };
         let dir = std::env::temp_dir().join(format!("antinode-vtk-{}", std::process::id()));
         std::fs::create_dir_all(&dir).ok();
         let path = dir.join("t.vtu");
         assert!(write_vtu(&path, &s, &[field], &[]).is_ok());
         let back = Vtk::import(&path);
-        let Ok(back) = back else {
-            panic!("vtkio must read its own file")
-        };
-        let DataSet::UnstructuredGrid { pieces, .. } = back.data else {
-            panic!("unstructured grid expected")
-        };
-        let Some(vtkio::model::Piece::Inline(piece)) = pieces.into_iter().next() else {
-            panic!("inline piece")
-        };
+        let Ok(back) = back else { panic!("vtkio must read its own file") };
+        let DataSet::UnstructuredGrid { pieces, .. } = back.data else { panic!("unstructured grid expected") };
+        let Some(vtkio::model::Piece::Inline(piece)) = pieces.into_iter().next() else { panic!("inline piece") };
         assert_eq!(piece.num_points(), 5);
         assert_eq!(piece.cells.types.len(), 5); // 4 beams + 1 absorber
         assert_eq!(piece.cells.types[4], CellType::Vertex);

@@ -154,14 +154,8 @@ pub struct RefinementInfo {
 
 fn rule(objective: Objective) -> (&'static str, fn(f64) -> Tuning) {
     match objective {
-        Objective::Peak => (
-            "Den Hartog frequency, Brock damping (harmonic force, H-infinity)",
-            den_hartog_brock,
-        ),
-        Objective::Rms => (
-            "Warburton 1982 white-noise force (H2)",
-            warburton_random_force,
-        ),
+        Objective::Peak => ("Den Hartog frequency, Brock damping (harmonic force, H-infinity)", den_hartog_brock),
+        Objective::Rms => ("Warburton 1982 white-noise force (H2)", warburton_random_force),
     }
 }
 
@@ -170,11 +164,7 @@ fn rule(objective: Objective) -> (&'static str, fn(f64) -> Tuning) {
 /// # Errors
 /// [`PlacementError::Design`] when no target mode responds, a listed target does not exist among
 /// the computed modes, or no candidate can host an absorber.
-pub fn design(
-    sm: &StudyModel,
-    spec: &DesignSpec,
-    structure: &Structure,
-) -> Result<Design, PlacementError> {
+pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Result<Design, PlacementError> {
     let targets = choose_targets(sm, spec)?;
     let band = sm.band_hz;
     let objective = spec.objective;
@@ -195,11 +185,7 @@ pub fn design(
         let omega = 2.0 * std::f64::consts::PI * t.frequency_hz;
         let [lo, hi] = t.window_hz;
         let base = window_value(lo, hi, &links);
-        let max_phi2 = sm
-            .candidates
-            .iter()
-            .map(|c| sm.model.coupling(c.coord, r).powi(2))
-            .fold(0.0, f64::max);
+        let max_phi2 = sm.candidates.iter().map(|c| sm.model.coupling(c.coord, r).powi(2)).fold(0.0, f64::max);
         let eligible: Vec<usize> = (0..sm.candidates.len())
             .filter(|&ci| {
                 let c = &sm.candidates[ci];
@@ -211,8 +197,7 @@ pub fn design(
                     let p = &sm.candidates[pi];
                     let same_place = p.node == c.node && p.direction.unit == c.direction.unit;
                     let too_close = pt == ti
-                        && distance(structure.nodes[p.node].xyz, structure.nodes[c.node].xyz)
-                            < spec.min_spacing;
+                        && distance(structure.nodes[p.node].xyz, structure.nodes[c.node].xyz) < spec.min_spacing;
                     !same_place && !too_close
                 })
             })
@@ -271,11 +256,7 @@ pub fn design(
         slots.push(Slot {
             absorber: k + 1,
             target_mode: t.mode,
-            ranking: rows
-                .into_iter()
-                .take(RANKING_ROWS)
-                .map(|(_, row, _)| row)
-                .collect(),
+            ranking: rows.into_iter().take(RANKING_ROWS).map(|(_, row, _)| row).collect(),
         });
     }
     let n_existing = sm.existing.len();
@@ -362,9 +343,8 @@ fn choose_targets(sm: &StudyModel, spec: &DesignSpec) -> Result<Vec<TargetMode>,
             list.iter().map(|m| m - 1).collect()
         }
         TargetSpec::Auto => {
-            let in_band: Vec<usize> = (sm.n_zero_energy..n)
-                .filter(|&r| sm.natural_hz[r] >= blo && sm.natural_hz[r] <= bhi)
-                .collect();
+            let in_band: Vec<usize> =
+                (sm.n_zero_energy..n).filter(|&r| sm.natural_hz[r] >= blo && sm.natural_hz[r] <= bhi).collect();
             let peaks: Vec<f64> = in_band.iter().map(|&r| sm.modal_peak(r)).collect();
             let top = peaks.iter().copied().fold(0.0, f64::max);
             if top.is_nan() || top <= 0.0 {
@@ -399,26 +379,10 @@ fn choose_targets(sm: &StudyModel, spec: &DesignSpec) -> Result<Vec<TargetMode>,
 fn window(sm: &StudyModel, r: usize) -> [f64; 2] {
     let f = sm.natural_hz[r];
     let elastic = &sm.natural_hz[sm.n_zero_energy..];
-    let below = elastic
-        .iter()
-        .copied()
-        .filter(|&g| g < f * (1.0 - 1e-6))
-        .fold(0.0, f64::max);
-    let above = elastic
-        .iter()
-        .copied()
-        .filter(|&g| g > f * (1.0 + 1e-6))
-        .fold(f64::INFINITY, f64::min);
-    let lo = if below > 0.0 {
-        (below * f).sqrt().max(f / 1.5)
-    } else {
-        f / 1.5
-    };
-    let hi = if above.is_finite() {
-        (above * f).sqrt().min(1.5 * f)
-    } else {
-        1.5 * f
-    };
+    let below = elastic.iter().copied().filter(|&g| g < f * (1.0 - 1e-6)).fold(0.0, f64::max);
+    let above = elastic.iter().copied().filter(|&g| g > f * (1.0 + 1e-6)).fold(f64::INFINITY, f64::min);
+    let lo = if below > 0.0 { (below * f).sqrt().max(f / 1.5) } else { f / 1.5 };
+    let hi = if above.is_finite() { (above * f).sqrt().min(1.5 * f) } else { 1.5 * f };
     let [blo, bhi] = sm.band_hz;
     [lo.max(blo), hi.min(bhi)]
 }
@@ -475,12 +439,7 @@ impl Refinement<'_> {
             grid_max.push(idx.iter().map(|&i| values[i]).fold(0.0, f64::max));
             let mut maxima: Vec<usize> = idx
                 .into_iter()
-                .filter(|&i| {
-                    i > 0
-                        && i + 1 < g.len()
-                        && values[i] >= values[i - 1]
-                        && values[i] >= values[i + 1]
-                })
+                .filter(|&i| i > 0 && i + 1 < g.len() && values[i] >= values[i - 1] && values[i] >= values[i + 1])
                 .collect();
             maxima.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));
             refine.extend(maxima.into_iter().take(2));
@@ -489,22 +448,13 @@ impl Refinement<'_> {
         refine.dedup();
         let refined: Vec<(f64, f64)> = refine
             .iter()
-            .map(|&i| {
-                resonance_peak(
-                    [g[i - 1], g[i], g[i + 1]],
-                    [values[i - 1], values[i], values[i + 1]],
-                )
-            })
+            .map(|&i| resonance_peak([g[i - 1], g[i], g[i + 1]], [values[i - 1], values[i], values[i + 1]]))
             .collect();
         windows
             .iter()
             .zip(grid_max)
             .map(|(&[lo, hi], m)| {
-                refined
-                    .iter()
-                    .filter(|&&(f, _)| f >= lo && f <= hi)
-                    .map(|&(_, v)| v)
-                    .fold(m, f64::max)
+                refined.iter().filter(|&&(f, _)| f >= lo && f <= hi).map(|&(_, v)| v).fold(m, f64::max)
             })
             .collect()
     }
@@ -513,10 +463,8 @@ impl Refinement<'_> {
     fn value(&self, links: &[AbsorberLink]) -> f64 {
         let mut all = self.fixed.to_vec();
         all.extend_from_slice(links);
-        let values: Vec<f64> = (0..self.sm.grid_hz.len())
-            .into_par_iter()
-            .map(|i| self.sm.table_response(&self.table, i, &all))
-            .collect();
+        let values: Vec<f64> =
+            (0..self.sm.grid_hz.len()).into_par_iter().map(|i| self.sm.table_response(&self.table, i, &all)).collect();
         match self.objective {
             Objective::Rms => {
                 let g = &self.sm.grid_hz;
@@ -560,15 +508,7 @@ fn refine(
     start: &[AbsorberLink],
 ) -> Result<(Vec<AbsorberLink>, RefinementInfo), PlacementError> {
     let coords: Vec<usize> = fixed.iter().chain(start).map(|l| l.coord).collect();
-    let mut problem = Refinement {
-        sm,
-        targets,
-        objective,
-        fixed,
-        start,
-        table: sm.table(&coords),
-        scale: 1.0,
-    };
+    let mut problem = Refinement { sm, targets, objective, fixed, start, table: sm.table(&coords), scale: 1.0 };
     let x0 = problem.start_point();
     problem.scale = problem.value(&problem.links(&x0));
     let v0 = 1.0;
@@ -586,20 +526,10 @@ fn refine(
         .configure(|s| s.max_iters(80 * dim as u64))
         .run()
         .map_err(|e| PlacementError::Design(format!("refinement: {e}")))?;
-    let best = result
-        .state()
-        .get_best_param()
-        .cloned()
-        .unwrap_or(x0.clone());
+    let best = result.state().get_best_param().cloned().unwrap_or(x0.clone());
     let v1 = result.state().get_best_cost();
-    let info = RefinementInfo {
-        iterations: result.state().get_iter(),
-        objective_ratio: v1.min(v0),
-    };
-    let problem = result
-        .problem
-        .problem
-        .ok_or_else(|| PlacementError::Design("refinement lost its problem".into()))?;
+    let info = RefinementInfo { iterations: result.state().get_iter(), objective_ratio: v1.min(v0) };
+    let problem = result.problem.problem.ok_or_else(|| PlacementError::Design("refinement lost its problem".into()))?;
     // Keep the rule's values if refinement did not improve (it never should make things worse).
     Ok((problem.links(if v1 <= v0 { &best } else { &x0 }), info))
 }

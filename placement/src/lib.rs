@@ -15,8 +15,6 @@ mod error;
 mod study;
 pub mod tuning;
 
-pub use design::{
-    AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, Slot, TargetMode, design,
-};
+pub use design::{AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, Slot, TargetMode, design};
 pub use error::PlacementError;
 pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, link_of};

@@ -4,8 +4,8 @@
 
 use antinode_mesh::{AbsorberSpec, DirectionSpec, Structure, StudySpec};
 use antinode_solver::{
-    AbsorberLink, Complex64, Coordinate, Load, ModalModel, ModalSolution, System, absorber_forces,
-    frequency_grid, golden_max, resonance_peak,
+    AbsorberLink, Complex64, Coordinate, Load, ModalModel, ModalSolution, System, absorber_forces, frequency_grid,
+    golden_max, resonance_peak,
 };
 use rayon::prelude::*;
 use serde::Serialize;
@@ -98,20 +98,12 @@ pub struct Peak {
 }
 
 fn coordinate(node: usize, d: &DirectionSpec) -> Coordinate {
-    Coordinate {
-        node,
-        direction: d.unit,
-    }
+    Coordinate { node, direction: d.unit }
 }
 
 /// The link of an absorber of the model at coordinate `coord`.
 pub fn link_of(a: &AbsorberSpec, coord: usize) -> AbsorberLink {
-    AbsorberLink {
-        coord,
-        mass: a.mass,
-        stiffness: a.stiffness,
-        damping: a.damping,
-    }
+    AbsorberLink { coord, mass: a.mass, stiffness: a.stiffness, damping: a.damping }
 }
 
 impl StudyModel {
@@ -130,22 +122,15 @@ impl StudyModel {
         with_candidates: bool,
     ) -> Result<Self, PlacementError> {
         if study.excitation.is_empty() {
-            return Err(PlacementError::Study(
-                "the study has no excitation: add study.excitation".into(),
-            ));
+            return Err(PlacementError::Study("the study has no excitation: add study.excitation".into()));
         }
         if study.response_points.is_empty() {
-            return Err(PlacementError::Study(
-                "the study has no response point: add study.response_points".into(),
-            ));
+            return Err(PlacementError::Study("the study has no response point: add study.response_points".into()));
         }
         let mut coords = Vec::new();
         let mut loads = Vec::new();
         for f in &study.excitation {
-            loads.push(Load {
-                coord: coords.len(),
-                amplitude: Complex64::from_polar(f.amplitude, f.phase_rad),
-            });
+            loads.push(Load { coord: coords.len(), amplitude: Complex64::from_polar(f.amplitude, f.phase_rad) });
             coords.push(coordinate(f.node, &f.direction));
         }
         let mut responses = Vec::new();
@@ -163,39 +148,22 @@ impl StudyModel {
             if let Some(d) = &study.design {
                 for &node in &d.candidates {
                     for dir in &d.directions {
-                        candidates.push(Candidate {
-                            node,
-                            direction: dir.clone(),
-                            coord: coords.len(),
-                        });
+                        candidates.push(Candidate { node, direction: dir.clone(), coord: coords.len() });
                         coords.push(coordinate(node, dir));
                     }
                 }
             }
         }
         let model = ModalModel::build(system, modes, &coords, study.modal_damping_ratio, true)?;
-        let natural_hz: Vec<f64> = (0..modes.n_modes())
-            .map(|i| modes.frequency_hz(i))
-            .collect();
+        let natural_hz: Vec<f64> = (0..modes.n_modes()).map(|i| modes.frequency_hz(i)).collect();
         let grid_hz = frequency_grid(study.band_hz, &natural_hz, study.modal_damping_ratio);
-        let reference_force = study
-            .excitation
-            .iter()
-            .map(|f| f.amplitude)
-            .fold(0.0, f64::max);
-        let grid_factors = grid_hz
-            .iter()
-            .map(|&f| model.modal_factors(2.0 * std::f64::consts::PI * f))
-            .collect();
+        let reference_force = study.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
+        let grid_factors = grid_hz.iter().map(|&f| model.modal_factors(2.0 * std::f64::consts::PI * f)).collect();
         Ok(Self {
             model,
             loads,
             responses,
-            response_names: study
-                .response_points
-                .iter()
-                .map(|r| r.name.clone())
-                .collect(),
+            response_names: study.response_points.iter().map(|r| r.name.clone()).collect(),
             existing,
             candidates,
             band_hz: study.band_hz,
@@ -221,19 +189,8 @@ impl StudyModel {
         self.response_with(&self.grid_factors[i], omega, absorbers)
     }
 
-    fn response_with(
-        &self,
-        factors: &[Complex64],
-        omega: f64,
-        absorbers: &[AbsorberLink],
-    ) -> (f64, usize) {
-        let r = self.model.coupled_response_with(
-            factors,
-            omega,
-            &self.loads,
-            &self.responses,
-            absorbers,
-        );
+    fn response_with(&self, factors: &[Complex64], omega: f64, absorbers: &[AbsorberLink]) -> (f64, usize) {
+        let r = self.model.coupled_response_with(factors, omega, &self.loads, &self.responses, absorbers);
         let mut best = (0.0, 0);
         for (i, x) in r.displacement.iter().enumerate() {
             let v = x.norm() / self.reference_force;
@@ -252,9 +209,7 @@ impl StudyModel {
         let mut spring_force = vec![Vec::with_capacity(freq_hz.len()); absorbers.len()];
         for &f in freq_hz {
             let omega = 2.0 * std::f64::consts::PI * f;
-            let r = self
-                .model
-                .coupled_response(omega, &self.loads, &self.responses, absorbers);
+            let r = self.model.coupled_response(omega, &self.loads, &self.responses, absorbers);
             for (i, x) in r.displacement.iter().enumerate() {
                 response[i].push(x / f0);
             }
@@ -263,20 +218,14 @@ impl StudyModel {
                 spring_force[i].push(r.spring_force[i] / f0);
             }
         }
-        Curves {
-            frequency_hz: freq_hz.to_vec(),
-            response,
-            stroke,
-            spring_force,
-        }
+        Curves { frequency_hz: freq_hz.to_vec(), response, stroke, spring_force }
     }
 
     /// The highest peak in [lo, hi] Hz with `absorbers`: grid maximum, refined by golden-section
     /// search around the three highest local maxima.
     pub fn peak(&self, lo: f64, hi: f64, absorbers: &[AbsorberLink]) -> Peak {
-        let idx: Vec<usize> = (0..self.grid_hz.len())
-            .filter(|&i| self.grid_hz[i] >= lo && self.grid_hz[i] <= hi)
-            .collect();
+        let idx: Vec<usize> =
+            (0..self.grid_hz.len()).filter(|&i| self.grid_hz[i] >= lo && self.grid_hz[i] <= hi).collect();
         let (grid, vals): (Vec<f64>, Vec<(f64, usize)>) = if idx.len() < 3 {
             let g = vec![lo, 0.5 * (lo + hi), hi];
             let v = g.iter().map(|&f| self.response_at(f, absorbers)).collect();
@@ -284,51 +233,26 @@ impl StudyModel {
         } else {
             (
                 idx.iter().map(|&i| self.grid_hz[i]).collect(),
-                idx.iter()
-                    .map(|&i| self.response_on_grid(i, absorbers))
-                    .collect(),
+                idx.iter().map(|&i| self.response_on_grid(i, absorbers)).collect(),
             )
         };
         let mut maxima: Vec<usize> = (0..vals.len())
             .filter(|&i| {
-                let l = if i > 0 {
-                    vals[i - 1].0
-                } else {
-                    f64::NEG_INFINITY
-                };
-                let r = if i + 1 < vals.len() {
-                    vals[i + 1].0
-                } else {
-                    f64::NEG_INFINITY
-                };
+                let l = if i > 0 { vals[i - 1].0 } else { f64::NEG_INFINITY };
+                let r = if i + 1 < vals.len() { vals[i + 1].0 } else { f64::NEG_INFINITY };
                 vals[i].0 >= l && vals[i].0 >= r
             })
             .collect();
         maxima.sort_by(|&a, &b| vals[b].0.total_cmp(&vals[a].0));
         maxima.truncate(3);
-        let mut best = Peak {
-            frequency_hz: grid[0],
-            receptance: vals[0].0,
-            point: vals[0].1,
-        };
+        let mut best = Peak { frequency_hz: grid[0], receptance: vals[0].0, point: vals[0].1 };
         for &i in &maxima {
             let (a, b) = (grid[i.saturating_sub(1)], grid[(i + 1).min(grid.len() - 1)]);
-            let (f, v) = if b > a {
-                golden_max(a, b, 1e-9, |f| self.response_at(f, absorbers).0)
-            } else {
-                (grid[i], vals[i].0)
-            };
-            let (f, v) = if v >= vals[i].0 {
-                (f, v)
-            } else {
-                (grid[i], vals[i].0)
-            };
+            let (f, v) =
+                if b > a { golden_max(a, b, 1e-9, |f| self.response_at(f, absorbers).0) } else { (grid[i], vals[i].0) };
+            let (f, v) = if v >= vals[i].0 { (f, v) } else { (grid[i], vals[i].0) };
             if v > best.receptance {
-                best = Peak {
-                    frequency_hz: f,
-                    receptance: v,
-                    point: self.response_at(f, absorbers).1,
-                };
+                best = Peak { frequency_hz: f, receptance: v, point: self.response_at(f, absorbers).1 };
             }
         }
         best
@@ -343,10 +267,7 @@ impl StudyModel {
             .map(|i| {
                 let f = &self.grid_factors[i];
                 let forced = |c: usize| -> Complex64 {
-                    self.loads
-                        .iter()
-                        .map(|l| self.model.receptance_with(f, c, l.coord) * l.amplitude)
-                        .sum()
+                    self.loads.iter().map(|l| self.model.receptance_with(f, c, l.coord) * l.amplitude).sum()
                 };
                 let fa = coords.iter().map(|&c| forced(c)).collect();
                 let fr = self.responses.iter().map(|&r| forced(r)).collect();
@@ -361,24 +282,10 @@ impl StudyModel {
                     .flat_map(|&r| coords.iter().map(move |&a| (r, a)))
                     .map(|(r, a)| self.model.receptance_with(f, r, a))
                     .collect();
-                GridTable {
-                    na,
-                    nr,
-                    fa,
-                    fr,
-                    haa,
-                    hra,
-                }
+                GridTable { na, nr, fa, fr, haa, hra }
             })
             .collect();
-        let mut t = GridTable {
-            na,
-            nr,
-            fa: Vec::new(),
-            fr: Vec::new(),
-            haa: Vec::new(),
-            hra: Vec::new(),
-        };
+        let mut t = GridTable { na, nr, fa: Vec::new(), fr: Vec::new(), haa: Vec::new(), hra: Vec::new() };
         for row in per {
             t.fa.extend(row.fa);
             t.fr.extend(row.fr);
@@ -428,18 +335,13 @@ impl StudyModel {
             return self.peak(lo, hi, absorbers).receptance;
         }
         let (first, last) = (idx[0], idx[idx.len() - 1]);
-        let vals: Vec<f64> = (first..=last)
-            .map(|i| self.response_on_grid(i, absorbers).0)
-            .collect();
+        let vals: Vec<f64> = (first..=last).map(|i| self.response_on_grid(i, absorbers).0).collect();
         let v = |i: usize| vals[i - first];
         let mut best = vals.iter().copied().fold(0.0, f64::max);
-        let mut maxima: Vec<usize> = ((first + 1)..last)
-            .filter(|&i| v(i) >= v(i - 1) && v(i) >= v(i + 1))
-            .collect();
+        let mut maxima: Vec<usize> = ((first + 1)..last).filter(|&i| v(i) >= v(i - 1) && v(i) >= v(i + 1)).collect();
         maxima.sort_by(|&a, &b| v(b).total_cmp(&v(a)).then(a.cmp(&b)));
         for &i in maxima.iter().take(2) {
-            best =
-                best.max(resonance_peak([g[i - 1], g[i], g[i + 1]], [v(i - 1), v(i), v(i + 1)]).1);
+            best = best.max(resonance_peak([g[i - 1], g[i], g[i + 1]], [v(i - 1), v(i), v(i + 1)]).1);
         }
         best
     }
@@ -447,17 +349,13 @@ impl StudyModel {
     /// Root-mean-square response over [lo, hi] Hz (trapezoidal rule on the grid, largest response
     /// point at each frequency), per newton, in m/N.
     pub fn rms(&self, lo: f64, hi: f64, absorbers: &[AbsorberLink]) -> f64 {
-        let idx: Vec<usize> = (0..self.grid_hz.len())
-            .filter(|&i| self.grid_hz[i] >= lo && self.grid_hz[i] <= hi)
-            .collect();
+        let idx: Vec<usize> =
+            (0..self.grid_hz.len()).filter(|&i| self.grid_hz[i] >= lo && self.grid_hz[i] <= hi).collect();
         if idx.len() < 2 {
             return self.response_at(0.5 * (lo + hi), absorbers).0;
         }
         let g: Vec<f64> = idx.iter().map(|&i| self.grid_hz[i]).collect();
-        let vals: Vec<f64> = idx
-            .iter()
-            .map(|&i| self.response_on_grid(i, absorbers).0.powi(2))
-            .collect();
+        let vals: Vec<f64> = idx.iter().map(|&i| self.response_on_grid(i, absorbers).0.powi(2)).collect();
         let mut s = 0.0;
         for i in 1..g.len() {
             s += 0.5 * (vals[i] + vals[i - 1]) * (g[i] - g[i - 1]);
@@ -473,16 +371,8 @@ impl StudyModel {
         if r < self.n_zero_energy || lambda <= 0.0 {
             return 0.0;
         }
-        let force: Complex64 = self
-            .loads
-            .iter()
-            .map(|l| l.amplitude * m.coupling(l.coord, r))
-            .sum();
-        let at = self
-            .responses
-            .iter()
-            .map(|&p| (force * m.coupling(p, r)).norm())
-            .fold(0.0, f64::max);
+        let force: Complex64 = self.loads.iter().map(|l| l.amplitude * m.coupling(l.coord, r)).sum();
+        let at = self.responses.iter().map(|&p| (force * m.coupling(p, r)).norm()).fold(0.0, f64::max);
         at / (2.0 * self.damping_ratio * lambda * self.reference_force)
     }
 }

@@ -28,10 +28,7 @@ impl Tuning {
 /// damping ζ_a = √(3μ / (8(1+μ))) (Brock, "A note on the damped vibration absorber",
 /// J. Appl. Mech., 1946).
 pub fn den_hartog_brock(mu: f64) -> Tuning {
-    Tuning {
-        frequency_ratio: 1.0 / (1.0 + mu),
-        damping_ratio: (3.0 * mu / (8.0 * (1.0 + mu))).sqrt(),
-    }
+    Tuning { frequency_ratio: 1.0 / (1.0 + mu), damping_ratio: (3.0 * mu / (8.0 * (1.0 + mu))).sqrt() }
 }
 
 /// White-noise force on an undamped primary, smallest displacement variance (H2): f = √(1 + μ/2)/(1+μ),
@@ -62,41 +59,24 @@ mod tests {
             (0.10, 0.909091, 0.184637),
         ] {
             let t = den_hartog_brock(mu);
-            assert!(
-                close(t.frequency_ratio, f, 1e-6) && close(t.damping_ratio, z, 1e-5),
-                "{mu}: {t:?}"
-            );
+            assert!(close(t.frequency_ratio, f, 1e-6) && close(t.damping_ratio, z, 1e-5), "{mu}: {t:?}");
             // Den Hartog's own ratio c/(2 m ω_j) = f ζ_a = √(3μ/(8(1+μ)³)).
-            assert!(close(
-                t.frequency_ratio * t.damping_ratio,
-                (3.0 * mu / (8.0 * (1.0 + mu).powi(3))).sqrt(),
-                1e-12
-            ));
+            assert!(close(t.frequency_ratio * t.damping_ratio, (3.0 * mu / (8.0 * (1.0 + mu).powi(3))).sqrt(), 1e-12));
         }
     }
 
     #[test]
     fn warburton_h2_values() {
         // Warburton 1982 white-noise force optimum, values of the closed form.
-        for (mu, f, z) in [
-            (0.01, 0.992571, 0.049814),
-            (0.05, 0.964212, 0.109772),
-            (0.10, 0.931541, 0.152540),
-        ] {
+        for (mu, f, z) in [(0.01, 0.992571, 0.049814), (0.05, 0.964212, 0.109772), (0.10, 0.931541, 0.152540)] {
             let t = warburton_random_force(mu);
-            assert!(
-                close(t.frequency_ratio, f, 1e-6) && close(t.damping_ratio, z, 1e-5),
-                "{mu}: {t:?}"
-            );
+            assert!(close(t.frequency_ratio, f, 1e-6) && close(t.damping_ratio, z, 1e-5), "{mu}: {t:?}");
         }
     }
 
     #[test]
     fn physical_parameters_follow_the_definitions() {
-        let t = Tuning {
-            frequency_ratio: 0.9,
-            damping_ratio: 0.1,
-        };
+        let t = Tuning { frequency_ratio: 0.9, damping_ratio: 0.1 };
         let (k, c) = t.physical(2.0, 100.0);
         assert!(close((k / 2.0f64).sqrt(), 90.0, 1e-12));
         assert!(close(c / (2.0 * 2.0 * 90.0), 0.1, 1e-12));

@@ -30,7 +30,10 @@ pub struct AssemblyOptions {
 pub struct System {
     pub(crate) dofs: DofMap,
     pub(crate) k: SparseColMat<usize, f64>,
+    /// M on its own (sparser) pattern, for products.
     pub(crate) m: SparseColMat<usize, f64>,
+    /// Position in K's value array of each of M's stored values (M's pattern is inside K's).
+    pub(crate) m_in_k: Vec<usize>,
     pub(crate) factorizer: Factorizer,
     pub(crate) node_xyz: Vec<[f64; 3]>,
     pub(crate) absorber_directions: Vec<[f64; 3]>,
@@ -52,26 +55,13 @@ struct Block {
 
 /// Unit rigid translation of the six DOFs of a node.
 fn node_rigid() -> [[f64; 3]; 6] {
-    [
-        [1.0, 0.0, 0.0],
-        [0.0, 1.0, 0.0],
-        [0.0, 0.0, 1.0],
-        [0.0; 3],
-        [0.0; 3],
-        [0.0; 3],
-    ]
+    [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [0.0; 3], [0.0; 3], [0.0; 3]]
 }
 
 impl Block {
     fn new(label: String, dofs: Vec<Option<usize>>, rigid: Vec<[f64; 3]>) -> Self {
         let n = dofs.len();
-        Self {
-            label,
-            dofs,
-            rigid,
-            k: vec![0.0; n * n],
-            m: vec![0.0; n * n],
-        }
+        Self { label, dofs, rigid, k: vec![0.0; n * n], m: vec![0.0; n * n] }
     }
 
     /// A block over the six DOFs of each of `nodes`.
@@ -92,14 +82,8 @@ fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
         MassMatrix::Consistent => MassKind::Consistent,
         MassMatrix::Lumped => MassKind::Lumped,
     };
-    let (k, m) = global_matrices(
-        s.nodes[b.nodes[0]].xyz,
-        s.nodes[b.nodes[1]].xyz,
-        b.orientation,
-        &b.section,
-        &b.material,
-        kind,
-    );
+    let (k, m) =
+        global_matrices(s.nodes[b.nodes[0]].xyz, s.nodes[b.nodes[1]].xyz, b.orientation, &b.section, &b.material, kind);
     let mut block = Block::on_nodes(b.label.clone(), dofs, &b.nodes);
     for r in 0..12 {
         for c in 0..12 {
@@ -143,10 +127,7 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
     if n == 0 {
         return Err(SolverError::NoFreeDofs);
     }
-    let mut blocks: Vec<Block> = (0..s.beams.len())
-        .into_par_iter()
-        .map(|i| beam_block(s, &dofs, i))
-        .collect();
+    let mut blocks: Vec<Block> = (0..s.beams.len()).into_par_iter().map(|i| beam_block(s, &dofs, i)).collect();
     for sp in &s.springs {
         match sp.other {
             None => {
@@ -183,9 +164,7 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
     }
     for b in &blocks {
         if b.k.iter().chain(&b.m).any(|v| !v.is_finite()) {
-            return Err(SolverError::NotFinite {
-                what: format!("the matrices of {}", b.label),
-            });
+            return Err(SolverError::NotFinite { what: format!("the matrices of {}", b.label) });
         }
     }
     let mut pairs = Vec::new();
@@ -213,54 +192,83 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         kv.push(0.0);
         mv.push(0.0);
     }
-    let (pattern, argsort) =
-        SymbolicSparseColMat::try_new_from_indices(n, n, &pairs).map_err(|e| {
-            SolverError::Factorization {
-                shift: 0.0,
-                detail: format!("pattern: {e:?}"),
-            }
-        })?;
-    let k = SparseColMat::new_from_argsort(pattern.clone(), &argsort, &kv).map_err(|e| {
-        SolverError::Factorization {
-            shift: 0.0,
-            detail: format!("stiffness values: {e:?}"),
-        }
-    })?;
-    let m = SparseColMat::new_from_argsort(pattern.clone(), &argsort, &mv).map_err(|e| {
-        SolverError::Factorization {
-            shift: 0.0,
-            detail: format!("mass values: {e:?}"),
-        }
-    })?;
-    let system = System {
-        factorizer: Factorizer::new(&pattern)?,
+    System::from_entries(
         dofs,
-        k,
-        m,
-        node_xyz: s.nodes.iter().map(|p| p.xyz).collect(),
-        absorber_directions: s.absorbers.iter().map(|a| a.direction.unit).collect(),
-        base_inertia,
-    };
-    let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
-    let massless: Vec<String> = (0..n)
-        .filter(|&i| md[i] <= 0.0 && kd[i] > 0.0)
-        .map(|i| system.dofs.describe(i, s))
-        .collect();
-    if !massless.is_empty() {
-        let shown: Vec<&str> = massless.iter().take(6).map(String::as_str).collect();
-        return Err(SolverError::MasslessDof {
-            count: massless.len(),
-            dofs: format!(
-                "{}{}",
-                shown.join(", "),
-                if massless.len() > 6 { ", ..." } else { "" }
-            ),
-        });
-    }
-    Ok(system)
+        &pairs,
+        &kv,
+        &mv,
+        Geometry {
+            node_xyz: s.nodes.iter().map(|p| p.xyz).collect(),
+            absorber_directions: s.absorbers.iter().map(|a| a.direction.unit).collect(),
+            base_inertia,
+        },
+    )
+}
+
+/// What a system knows of its geometry (empty for matrices read from files).
+pub(crate) struct Geometry {
+    pub node_xyz: Vec<[f64; 3]>,
+    pub absorber_directions: Vec<[f64; 3]>,
+    pub base_inertia: Mat<f64>,
 }
 
 impl System {
+    /// Builds K and M from entries `(pairs[i], kv[i])` and `(pairs[i], mv[i])` (duplicates summed) on
+    /// their union pattern, analyses it, and checks that every DOF with stiffness has mass.
+    pub(crate) fn from_entries(
+        dofs: DofMap,
+        pairs: &[Pair<usize, usize>],
+        kv: &[f64],
+        mv: &[f64],
+        geometry: Geometry,
+    ) -> Result<System, SolverError> {
+        let n = dofs.n_dofs();
+        let (pattern, argsort) = SymbolicSparseColMat::try_new_from_indices(n, n, pairs)
+            .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("pattern: {e:?}") })?;
+        let k = SparseColMat::new_from_argsort(pattern.clone(), &argsort, kv)
+            .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("stiffness values: {e:?}") })?;
+        // M on the pattern of its own non-zero entries (plus the diagonal), often several times
+        // sparser than K's (no drilling or shear couplings), which makes products with M cheaper.
+        let mut m_pairs = Vec::new();
+        let mut m_vals = Vec::new();
+        for (pr, &v) in pairs.iter().zip(mv) {
+            if v != 0.0 {
+                m_pairs.push(*pr);
+                m_vals.push(v);
+            }
+        }
+        for i in 0..n {
+            m_pairs.push(Pair { row: i, col: i });
+            m_vals.push(0.0);
+        }
+        let (m_pattern, m_argsort) = SymbolicSparseColMat::try_new_from_indices(n, n, &m_pairs)
+            .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass pattern: {e:?}") })?;
+        let m = SparseColMat::new_from_argsort(m_pattern, &m_argsort, &m_vals)
+            .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass values: {e:?}") })?;
+        let m_in_k = positions_in(&k, &m);
+        let system = System {
+            factorizer: Factorizer::new(&pattern)?,
+            dofs,
+            k,
+            m,
+            m_in_k,
+            node_xyz: geometry.node_xyz,
+            absorber_directions: geometry.absorber_directions,
+            base_inertia: geometry.base_inertia,
+        };
+        let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
+        let massless: Vec<String> =
+            (0..n).filter(|&i| md[i] <= 0.0 && kd[i] > 0.0).map(|i| system.dofs.describe(i)).collect();
+        if !massless.is_empty() {
+            let shown: Vec<&str> = massless.iter().take(6).map(String::as_str).collect();
+            return Err(SolverError::MasslessDof {
+                count: massless.len(),
+                dofs: format!("{}{}", shown.join(", "), if massless.len() > 6 { ", ..." } else { "" }),
+            });
+        }
+        Ok(system)
+    }
+
     /// The DOF numbering.
     pub fn dof_map(&self) -> &DofMap {
         &self.dofs
@@ -277,11 +285,7 @@ impl System {
     /// # Panics
     /// If `x.len()` is not the number of free DOFs.
     pub fn mass_times(&self, x: &[f64]) -> Vec<f64> {
-        assert_eq!(
-            x.len(),
-            self.n_dofs(),
-            "vector length must be the number of free DOFs"
-        );
+        assert_eq!(x.len(), self.n_dofs(), "vector length must be the number of free DOFs");
         let y = self.mul_m(faer::ColRef::from_slice(x).as_mat());
         (0..x.len()).map(|i| y[(i, 0)]).collect()
     }
@@ -308,6 +312,16 @@ impl System {
     /// Y = K X.
     pub(crate) fn mul_k(&self, x: MatRef<'_, f64>) -> Mat<f64> {
         mul(&self.k, x)
+    }
+
+    /// Values of K − σM on K's pattern.
+    pub(crate) fn shifted(&self, sigma: f64) -> SparseColMat<usize, f64> {
+        let mut out = self.k.clone();
+        let vals = out.val_mut();
+        for (&pos, &mv) in self.m_in_k.iter().zip(self.m.val()) {
+            vals[pos] -= sigma * mv;
+        }
+        out
     }
 
     /// Y = M X.
@@ -340,7 +354,7 @@ impl System {
         for i in 0..n {
             match self.dofs.owner(i) {
                 DofOwner::Node { component, .. } if component < 3 => r[(i, component)] = 1.0,
-                DofOwner::Node { .. } => {}
+                DofOwner::Node { .. } | DofOwner::Row { .. } => {}
                 DofOwner::Absorber { absorber } => {
                     for d in 0..3 {
                         r[(i, d)] = self.absorber_directions[absorber][d];
@@ -352,15 +366,24 @@ impl System {
     }
 }
 
+/// For each stored entry of `sub` (whose pattern lies inside `a`'s), its position in `a`'s values.
+fn positions_in(a: &SparseColMat<usize, f64>, sub: &SparseColMat<usize, f64>) -> Vec<usize> {
+    let (sa, ss) = (a.symbolic(), sub.symbolic());
+    let mut out = Vec::with_capacity(sub.val().len());
+    for j in 0..sub.ncols() {
+        let rows_a = sa.row_idx_of_col_raw(j);
+        let start = sa.col_range(j).start;
+        for &i in ss.row_idx_of_col_raw(j) {
+            // Both are sorted; the entry exists because K's pattern holds M's.
+            let pos = rows_a.partition_point(|&r| r < i);
+            out.push(start + pos);
+        }
+    }
+    out
+}
+
 fn mul(a: &SparseColMat<usize, f64>, x: MatRef<'_, f64>) -> Mat<f64> {
     let mut y = Mat::<f64>::zeros(a.nrows(), x.ncols());
-    faer::sparse::linalg::matmul::sparse_dense_matmul(
-        y.as_mut(),
-        Accum::Replace,
-        a.as_ref(),
-        x,
-        1.0,
-        Par::Seq,
-    );
+    faer::sparse::linalg::matmul::sparse_dense_matmul(y.as_mut(), Accum::Replace, a.as_ref(), x, 1.0, Par::Seq);
     y
 }

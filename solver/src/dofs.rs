@@ -22,6 +22,11 @@ pub enum DofOwner {
         /// Absorber index in the structure.
         absorber: usize,
     },
+    /// A row of matrices read from files (no geometry).
+    Row {
+        /// Row index, from 0.
+        index: usize,
+    },
 }
 
 /// Numbering of the free DOFs.
@@ -31,6 +36,9 @@ pub struct DofMap {
     owners: Vec<DofOwner>,
     absorber_dofs: Vec<usize>,
     n_structural: usize,
+    /// Node ids and absorber names, for messages.
+    node_ids: Vec<u64>,
+    absorber_names: Vec<String>,
 }
 
 const COMPONENT_NAMES: [&str; 6] = ["ux", "uy", "uz", "rx", "ry", "rz"];
@@ -98,6 +106,20 @@ impl DofMap {
             owners,
             absorber_dofs,
             n_structural,
+            node_ids: s.nodes.iter().map(|n| n.id.0).collect(),
+            absorber_names: s.absorbers.iter().map(|a| a.name.clone()).collect(),
+        }
+    }
+
+    /// Numbering of `n` DOFs of matrices given without geometry.
+    pub fn rows(n: usize) -> Self {
+        Self {
+            node_dofs: Vec::new(),
+            owners: (0..n).map(|index| DofOwner::Row { index }).collect(),
+            absorber_dofs: Vec::new(),
+            n_structural: n,
+            node_ids: Vec::new(),
+            absorber_names: Vec::new(),
         }
     }
 
@@ -136,15 +158,15 @@ impl DofMap {
         self.owners[dof]
     }
 
-    /// Words for a free DOF, e.g. `node 12 uz` or `absorber "tip" mass`.
-    pub fn describe(&self, dof: usize, s: &Structure) -> String {
+    /// Words for a free DOF, e.g. `node 12 uz`, `absorber "tip" mass` or `row 7` (from 1, as in a
+    /// matrix file).
+    pub fn describe(&self, dof: usize) -> String {
         match self.owners[dof] {
             DofOwner::Node { node, component } => {
-                format!("node {} {}", s.nodes[node].id, COMPONENT_NAMES[component])
+                format!("node {} {}", self.node_ids[node], COMPONENT_NAMES[component])
             }
-            DofOwner::Absorber { absorber } => {
-                format!("absorber \"{}\" mass", s.absorbers[absorber].name)
-            }
+            DofOwner::Absorber { absorber } => format!("absorber \"{}\" mass", self.absorber_names[absorber]),
+            DofOwner::Row { index } => format!("row {}", index + 1),
         }
     }
 

@@ -9,9 +9,7 @@ pub enum SolverError {
     #[error("the model has no free degree of freedom: every DOF is fixed or carries no element")]
     NoFreeDofs,
     /// DOFs with stiffness and no mass make the mass matrix singular.
-    #[error(
-        "{count} free DOF(s) have stiffness but no mass ({dofs}); add a point mass there or fix them"
-    )]
+    #[error("{count} free DOF(s) have stiffness but no mass ({dofs}); add a point mass there or fix them")]
     MasslessDof {
         /// How many.
         count: usize,
@@ -25,9 +23,7 @@ pub enum SolverError {
         what: String,
     },
     /// More (or fewer) zero-energy modes than expected: an unsupported mechanism.
-    #[error(
-        "the model can move without straining in {found} independent way(s) where {expected} expected; {detail}"
-    )]
+    #[error("the model can move without straining in {found} independent way(s) where {expected} expected; {detail}")]
     Mechanism {
         /// Zero-energy modes found.
         found: usize,
@@ -43,6 +39,14 @@ pub enum SolverError {
         shift: f64,
         /// What failed.
         detail: String,
+    },
+    /// A matrix file that cannot be read or written, or holds an unusable matrix.
+    #[error("{path}: {message}")]
+    MatrixFile {
+        /// The file.
+        path: std::path::PathBuf,
+        /// What is wrong.
+        message: String,
     },
     /// A request that cannot be served.
     #[error("{0}")]

@@ -20,20 +20,23 @@ mod eigen;
 pub mod element;
 mod error;
 mod factor;
+mod matrices;
+mod ordering;
 mod response;
 mod statics;
 
 pub use assembly::{AssemblyOptions, System, assemble};
 pub use dofs::{DofMap, DofOwner};
 pub use eigen::{
-    EigenParams, Method, ModalSolution, ModeRequest, SolveStats, SturmCheck, check_zero_energy,
-    confirm_zero_energy, participation, solve_modes,
+    EigenParams, Method, ModalSolution, ModeRequest, SolveStats, SturmCheck, check_zero_energy, confirm_zero_energy,
+    participation, solve_modes,
 };
 pub use error::SolverError;
+pub use matrices::{system_from_matrix_market, write_matrix_market};
 pub use num_complex::Complex64;
 pub use response::{
-    AbsorberLink, Coordinate, CoupledResponse, Load, ModalModel, absorber_forces, frequency_grid,
-    golden_max, refined_peaks, resonance_peak,
+    AbsorberLink, Coordinate, CoupledResponse, Load, ModalModel, absorber_forces, frequency_grid, golden_max,
+    refined_peaks, resonance_peak,
 };
 pub use statics::solve_static;
 

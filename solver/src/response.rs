@@ -79,9 +79,7 @@ impl AbsorberLink {
         match self.damping {
             AbsorberDamping::None => Complex64::new(self.stiffness, 0.0),
             AbsorberDamping::Viscous(c) => Complex64::new(self.stiffness, omega * c),
-            AbsorberDamping::LossFactor(eta) => {
-                Complex64::new(self.stiffness, self.stiffness * eta)
-            }
+            AbsorberDamping::LossFactor(eta) => Complex64::new(self.stiffness, self.stiffness * eta),
         }
     }
 
@@ -130,14 +128,9 @@ impl ModalModel {
         // Each coordinate touches at most three free DOFs: gather instead of dense products.
         let taps: Vec<Vec<(usize, f64)>> = coords
             .iter()
-            .map(|co| {
-                (0..3)
-                    .filter_map(|k| system.dofs.dof(co.node, k).map(|i| (i, co.direction[k])))
-                    .collect()
-            })
+            .map(|co| (0..3).filter_map(|k| system.dofs.dof(co.node, k).map(|i| (i, co.direction[k]))).collect())
             .collect();
-        let gather =
-            |col: &[f64], c: usize| -> f64 { taps[c].iter().map(|&(i, w)| w * col[i]).sum() };
+        let gather = |col: &[f64], c: usize| -> f64 { taps[c].iter().map(|&(i, w)| w * col[i]).sum() };
         let mut phi = vec![0.0; nc * nm];
         for r in 0..nm {
             let shape = solution.shape(r);
@@ -145,26 +138,14 @@ impl ModalModel {
                 phi[c * nm + r] = gather(shape, c);
             }
         }
-        let damping = (0..nm)
-            .map(|r| {
-                if r < solution.n_zero_energy {
-                    0.0
-                } else {
-                    damping_ratio
-                }
-            })
-            .collect();
+        let damping = (0..nm).map(|r| if r < solution.n_zero_energy { 0.0 } else { damping_ratio }).collect();
         let mut residual = vec![0.0; nc * nc];
         if with_residual && nc > 0 {
             let sigma = solution.shift;
-            let factor = system
-                .factorizer
-                .llt(&crate::factor::shifted(&system.k, &system.m, sigma))?
-                .ok_or_else(|| SolverError::Factorization {
-                    shift: sigma,
-                    detail: "K - sigma M is not positive definite for the residual flexibility"
-                        .into(),
-                })?;
+            let factor = system.factorizer.llt(&system.shifted(sigma))?.ok_or_else(|| SolverError::Factorization {
+                shift: sigma,
+                detail: "K - sigma M is not positive definite for the residual flexibility".into(),
+            })?;
             let shapes = solution.shapes();
             let mphi = system.mul_m(shapes);
             // Load made M-orthogonal to the kept modes: E' = E − MΦ(ΦᵀE), with ΦᵀE = φ gathered.
@@ -186,11 +167,7 @@ impl ModalModel {
             let c = mphi.transpose() * x.as_ref();
             x -= shapes * &c;
             for b in 0..nc {
-                let col = x
-                    .col(b)
-                    .try_as_col_major()
-                    .map(|c| c.as_slice())
-                    .unwrap_or(&[]);
+                let col = x.col(b).try_as_col_major().map(|c| c.as_slice()).unwrap_or(&[]);
                 for a in 0..nc {
                     residual[a * nc + b] = gather(col, a);
                 }
@@ -203,13 +180,7 @@ impl ModalModel {
                 }
             }
         }
-        Ok(Self {
-            eigenvalues: solution.eigenvalues.clone(),
-            damping,
-            n_coords: nc,
-            phi,
-            residual,
-        })
+        Ok(Self { eigenvalues: solution.eigenvalues.clone(), damping, n_coords: nc, phi, residual })
     }
 
     /// Number of modes kept.
@@ -252,10 +223,7 @@ impl ModalModel {
     /// Receptance H_ab from precomputed modal factors, in m/N.
     pub fn receptance_with(&self, factors: &[Complex64], a: usize, b: usize) -> Complex64 {
         let nm = self.n_modes();
-        let (pa, pb) = (
-            &self.phi[a * nm..(a + 1) * nm],
-            &self.phi[b * nm..(b + 1) * nm],
-        );
+        let (pa, pb) = (&self.phi[a * nm..(a + 1) * nm], &self.phi[b * nm..(b + 1) * nm]);
         let mut h = Complex64::new(self.residual[a * self.n_coords + b], 0.0);
         for r in 0..nm {
             h += factors[r] * (pa[r] * pb[r]);
@@ -291,10 +259,7 @@ impl ModalModel {
     ) -> CoupledResponse {
         let na = absorbers.len();
         let forced = |c: usize| -> Complex64 {
-            loads
-                .iter()
-                .map(|l| self.receptance_with(factors, c, l.coord) * l.amplitude)
-                .sum()
+            loads.iter().map(|l| self.receptance_with(factors, c, l.coord) * l.amplitude).sum()
         };
         let mut g = vec![Complex64::new(0.0, 0.0); na];
         let mut stroke = vec![Complex64::new(0.0, 0.0); na];
@@ -303,8 +268,7 @@ impl ModalModel {
             let mut haa = vec![Complex64::new(0.0, 0.0); na * na];
             for j in 0..na {
                 for i in 0..na {
-                    haa[j * na + i] =
-                        self.receptance_with(factors, absorbers[j].coord, absorbers[i].coord);
+                    haa[j * na + i] = self.receptance_with(factors, absorbers[j].coord, absorbers[i].coord);
                 }
             }
             absorber_forces(omega, &haa, &fa, absorbers, &mut g, &mut stroke);
@@ -319,11 +283,7 @@ impl ModalModel {
                 x
             })
             .collect();
-        CoupledResponse {
-            displacement,
-            stroke,
-            spring_force: g,
-        }
+        CoupledResponse { displacement, stroke, spring_force: g }
     }
 }
 
@@ -371,9 +331,7 @@ pub fn absorber_forces(
         }
         // Gaussian elimination with partial pivoting.
         for c in 0..na {
-            let p = (c..na)
-                .max_by(|&a, &b| m[a * SMALL + c].norm().total_cmp(&m[b * SMALL + c].norm()))
-                .unwrap_or(c);
+            let p = (c..na).max_by(|&a, &b| m[a * SMALL + c].norm().total_cmp(&m[b * SMALL + c].norm())).unwrap_or(c);
             if p != c {
                 for k in 0..na {
                     m.swap(p * SMALL + k, c * SMALL + k);
@@ -431,9 +389,7 @@ pub fn frequency_grid(band_hz: [f64; 2], natural_hz: &[f64], damping_ratio: f64)
     let lo = band_hz[0].max(1e-3 * hi);
     let step = 1.0 + (damping_ratio / 2.0).clamp(1e-4, 0.05);
     let n = ((hi / lo).ln() / step.ln()).ceil().max(1.0) as usize;
-    let mut f: Vec<f64> = (0..=n)
-        .map(|i| lo * (hi / lo).powf(i as f64 / n as f64))
-        .collect();
+    let mut f: Vec<f64> = (0..=n).map(|i| lo * (hi / lo).powf(i as f64 / n as f64)).collect();
     f.extend(natural_hz.iter().copied().filter(|&x| x > lo && x < hi));
     f.sort_by(f64::total_cmp);
     f.dedup_by(|a, b| (*a - *b).abs() <= 1e-12 * b.abs());
@@ -494,34 +450,18 @@ pub fn resonance_peak(f: [f64; 3], v: [f64; 3]) -> (f64, f64) {
 
 /// Local maxima of `values` over the grid `freq_hz`, each refined by golden-section search of
 /// `eval` between its grid neighbours: (frequency in Hz, value), by ascending frequency.
-pub fn refined_peaks(
-    freq_hz: &[f64],
-    values: &[f64],
-    eval: impl Fn(f64) -> f64,
-) -> Vec<(f64, f64)> {
+pub fn refined_peaks(freq_hz: &[f64], values: &[f64], eval: impl Fn(f64) -> f64) -> Vec<(f64, f64)> {
     let n = values.len();
     let mut peaks = Vec::new();
     for i in 0..n {
-        let left = if i > 0 {
-            values[i - 1]
-        } else {
-            f64::NEG_INFINITY
-        };
-        let right = if i + 1 < n {
-            values[i + 1]
-        } else {
-            f64::NEG_INFINITY
-        };
+        let left = if i > 0 { values[i - 1] } else { f64::NEG_INFINITY };
+        let right = if i + 1 < n { values[i + 1] } else { f64::NEG_INFINITY };
         if values[i] >= left && values[i] > right {
             if i == 0 || i + 1 == n {
                 peaks.push((freq_hz[i], values[i]));
             } else {
                 let (f, v) = golden_max(freq_hz[i - 1], freq_hz[i + 1], 1e-9, &eval);
-                peaks.push(if v >= values[i] {
-                    (f, v)
-                } else {
-                    (freq_hz[i], values[i])
-                });
+                peaks.push(if v >= values[i] { (f, v) } else { (freq_hz[i], values[i]) });
             }
         }
     }
@@ -545,10 +485,7 @@ mod tests {
         let h = |f: f64| 1.0 / ((f - f0).powi(2) + g * g).sqrt();
         let fs = [100.9, 101.45, 102.2];
         let (f, v) = resonance_peak(fs, fs.map(h));
-        assert!(
-            (f - f0).abs() < 1e-9 && (v - 1.0 / g).abs() < 1e-9 / g,
-            "{f} {v}"
-        );
+        assert!((f - f0).abs() < 1e-9 && (v - 1.0 / g).abs() < 1e-9 / g, "{f} {v}");
     }
 
     #[test]

@@ -10,10 +10,7 @@ use crate::error::SolverError;
 ///
 /// # Errors
 /// [`SolverError::Mechanism`] if K is singular (the structure is not held against some motion).
-pub fn solve_static(
-    system: &System,
-    loads: &[(usize, [f64; 6])],
-) -> Result<Vec<[f64; 6]>, SolverError> {
+pub fn solve_static(system: &System, loads: &[(usize, [f64; 6])]) -> Result<Vec<[f64; 6]>, SolverError> {
     let n = system.n_dofs();
     let mut f = Mat::<f64>::zeros(n, 1);
     for (node, load) in loads {
@@ -23,16 +20,11 @@ pub fn solve_static(
             }
         }
     }
-    let factor = system
-        .factorizer
-        .llt(&system.k)?
-        .ok_or_else(|| SolverError::Mechanism {
-            found: 1,
-            expected: 0,
-            detail:
-                "the stiffness matrix is singular, so there is no static solution; add supports"
-                    .into(),
-        })?;
+    let factor = system.factorizer.llt(&system.k)?.ok_or_else(|| SolverError::Mechanism {
+        found: 1,
+        expected: 0,
+        detail: "the stiffness matrix is singular, so there is no static solution; add supports".into(),
+    })?;
     factor.solve_in_place(f.as_mut());
     let v: Vec<f64> = (0..n).map(|i| f[(i, 0)]).collect();
     Ok(system.dofs.expand(&v))

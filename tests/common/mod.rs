@@ -8,8 +8,7 @@ use antinode::solver::{
 
 /// Parses and validates model JSON; panics with the error (test input is ours).
 pub fn structure(json: &str) -> Structure {
-    let model =
-        parse_model(json, std::path::Path::new("test.json")).unwrap_or_else(|e| panic!("{e}"));
+    let model = parse_model(json, std::path::Path::new("test.json")).unwrap_or_else(|e| panic!("{e}"));
     validate(&model).unwrap_or_else(|e| panic!("{e}"))
 }
 
@@ -21,10 +20,7 @@ pub fn system(s: &Structure) -> System {
 /// The lowest `n` modes by the sparse (Lanczos) route.
 pub fn lowest(s: &Structure, n: usize) -> (System, ModalSolution) {
     let sys = system(s);
-    let params = EigenParams {
-        method: Method::Lanczos,
-        ..EigenParams::default()
-    };
+    let params = EigenParams { method: Method::Lanczos, ..EigenParams::default() };
     let sol = solve_modes(&sys, ModeRequest::Lowest(n), &params).unwrap_or_else(|e| panic!("{e}"));
     (sys, sol)
 }
@@ -37,21 +33,11 @@ pub fn rel(a: f64, b: f64) -> f64 {
 /// Asserts |a − b| ≤ tol·|b| with a message.
 #[track_caller]
 pub fn assert_rel(a: f64, b: f64, tol: f64, what: &str) {
-    assert!(
-        rel(a, b) <= tol,
-        "{what}: got {a}, expected {b} (relative error {:.3e} > {tol:.1e})",
-        rel(a, b)
-    );
+    assert!(rel(a, b) <= tol, "{what}: got {a}, expected {b} (relative error {:.3e} > {tol:.1e})", rel(a, b));
 }
 
 /// A straight beam model along X with the given section JSON and supports JSON.
-pub fn beam_model(
-    section: &str,
-    elements: usize,
-    length: f64,
-    supports: &str,
-    material: &str,
-) -> String {
+pub fn beam_model(section: &str, elements: usize, length: f64, supports: &str, material: &str) -> String {
     format!(
         r#"{{
   "materials": {{"m": {material}}},

@@ -12,9 +12,7 @@
 //!
 //! O(n³): the oracle for tests and the route for tiny models, never for production sizes.
 
-use faer::linalg::triangular_solve::{
-    solve_lower_triangular_in_place, solve_upper_triangular_in_place,
-};
+use faer::linalg::triangular_solve::{solve_lower_triangular_in_place, solve_upper_triangular_in_place};
 use faer::{Mat, Par, Side};
 
 use crate::assembly::System;
@@ -26,11 +24,7 @@ use crate::error::SolverError;
 /// # Errors
 /// [`SolverError::Factorization`] if K − σM is not positive definite for any tried σ,
 /// [`SolverError::NoConvergence`] if the dense eigensolver fails.
-pub(crate) fn all_modes(
-    system: &System,
-    scale: f64,
-    zero_tol: f64,
-) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
+pub(crate) fn all_modes(system: &System, scale: f64, zero_tol: f64) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
     let (k, m) = system.dense();
     let n = k.nrows();
     let d: Vec<f64> = (0..n)
@@ -55,11 +49,7 @@ pub(crate) fn all_modes(
     Ok((vals, phi))
 }
 
-fn shift_invert(
-    k: &Mat<f64>,
-    m: &Mat<f64>,
-    sigma: f64,
-) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
+fn shift_invert(k: &Mat<f64>, m: &Mat<f64>, sigma: f64) -> Result<(Vec<f64>, Mat<f64>), SolverError> {
     let n = k.nrows();
     let a = Mat::from_fn(n, n, |i, j| k[(i, j)] - sigma * m[(i, j)]);
     let llt = a.llt(Side::Lower).map_err(|e| SolverError::Factorization {

@@ -22,8 +22,8 @@ use antinode_mesh::Structure;
 
 use crate::assembly::System;
 use crate::error::SolverError;
-use crate::factor::{Factor, shifted};
-use lanczos::{Operator, RunParams};
+use crate::factor::Factor;
+use lanczos::{Operator, RunParams, Select};
 
 /// Which modes to compute.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -37,6 +37,22 @@ pub enum ModeRequest {
         /// Upper edge, in Hz.
         high_hz: f64,
     },
+    /// The modes in `[low_hz, high_hz]`, at most the lowest `max_count` of them.
+    BandCapped {
+        /// Lower edge, in Hz.
+        low_hz: f64,
+        /// Upper edge, in Hz.
+        high_hz: f64,
+        /// Largest number of modes returned.
+        max_count: usize,
+    },
+}
+
+/// A request after caps are resolved.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Plain {
+    Lowest(usize),
+    Band { low_hz: f64, high_hz: f64 },
 }
 
 /// How to solve.
@@ -53,9 +69,10 @@ pub enum Method {
 /// Solver settings.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct EigenParams {
-    /// Lanczos block size (≥ 1); at least the largest expected multiplicity. Default 3.
+    /// Lanczos block size (≥ 1); at least the largest expected multiplicity. Default 4.
     pub block_size: usize,
-    /// Convergence tolerance on ‖Op y − θ y‖_M / |θ|. Default 1e-11.
+    /// Convergence tolerance on ‖Op y − θ y‖_M / |θ|. Default 1e-9 (the refinement step after
+    /// convergence brings the residuals of the returned modes well below it).
     pub tolerance: f64,
     /// Route.
     pub method: Method,
@@ -67,13 +84,7 @@ pub struct EigenParams {
 
 impl Default for EigenParams {
     fn default() -> Self {
-        Self {
-            block_size: 3,
-            tolerance: 1e-11,
-            method: Method::Auto,
-            seed: 0x5eed_a11d,
-            max_restarts: 12,
-        }
+        Self { block_size: 4, tolerance: 1e-9, method: Method::Auto, seed: 0x5eed_a11d, max_restarts: 12 }
     }
 }
 
@@ -89,6 +100,10 @@ pub struct SturmCheck {
     pub count_found: usize,
     /// Whether the two agree.
     pub passed: bool,
+    /// For a band away from zero: the frequency of the lower shift, whose count was subtracted (both
+    /// counts then refer to the band).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lower_shift_hz: Option<f64>,
 }
 
 /// Work done by a solve.
@@ -102,6 +117,12 @@ pub struct SolveStats {
     pub lanczos_runs: usize,
     /// Stored values of one factor.
     pub factor_entries: usize,
+    /// Thick restarts of the Lanczos runs.
+    pub restarts: usize,
+    /// Wall time of the numeric factorizations, in s.
+    pub factor_seconds: f64,
+    /// Wall time of the block solves with the factors, in s.
+    pub solve_seconds: f64,
 }
 
 /// Computed modes.
@@ -137,11 +158,7 @@ impl ModalSolution {
 
     /// Shape of mode `i` (from 0) over the free DOFs.
     pub fn shape(&self, i: usize) -> &[f64] {
-        self.shapes
-            .col(i)
-            .try_as_col_major()
-            .map(|c| c.as_slice())
-            .unwrap_or(&[])
+        self.shapes.col(i).try_as_col_major().map(|c| c.as_slice()).unwrap_or(&[])
     }
 
     /// Natural frequency of mode `i` in Hz (0 for zero-energy modes with a round-off negative λ).
@@ -188,12 +205,7 @@ fn lambda_to_hz(l: f64) -> f64 {
 /// Median of K_ii / M_ii over DOFs with both positive: the scale of element-level eigenvalues.
 fn eigenvalue_scale(system: &System) -> f64 {
     let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
-    let mut r: Vec<f64> = kd
-        .iter()
-        .zip(&md)
-        .filter(|(k, m)| **k > 0.0 && **m > 0.0)
-        .map(|(k, m)| k / m)
-        .collect();
+    let mut r: Vec<f64> = kd.iter().zip(&md).filter(|(k, m)| **k > 0.0 && **m > 0.0).map(|(k, m)| k / m).collect();
     if r.is_empty() {
         return 1.0;
     }
@@ -203,24 +215,21 @@ fn eigenvalue_scale(system: &System) -> f64 {
 
 /// Zero-energy analysis of K: the free DOFs at which the rank-revealing LDLᵀ found no stiffness.
 pub(crate) fn zero_energy_dofs(system: &System) -> Result<Vec<usize>, SolverError> {
-    let (_, marked) = system
-        .factorizer
-        .ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
+    let (_, marked) = system.factorizer.ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
     Ok(marked)
 }
 
 /// Number of eigenvalues below `lambda` by the inertia of K − λM, moving the shift slightly if it
 /// falls on an eigenvalue.
-pub(crate) fn sturm_count(
-    system: &System,
-    lambda: f64,
-    stats: &mut SolveStats,
-) -> Result<(usize, f64), SolverError> {
+pub(crate) fn sturm_count(system: &System, lambda: f64, stats: &mut SolveStats) -> Result<(usize, f64), SolverError> {
     let mut s = lambda;
     for attempt in 0..6 {
-        let a = shifted(&system.k, &system.m, s);
+        let a = system.shifted(s);
         stats.factorizations += 1;
-        if let Some(f) = system.factorizer.ldlt(&a)? {
+        let t = std::time::Instant::now();
+        let factor = system.factorizer.ldlt(&a)?;
+        stats.factor_seconds += t.elapsed().as_secs_f64();
+        if let Some(f) = factor {
             let inertia = f.inertia();
             if inertia.zero == 0 {
                 return Ok((inertia.negative, s));
@@ -241,22 +250,14 @@ pub(crate) fn sturm_count(
 /// [`SolverError::Request`] for an impossible request (zero modes, an empty or reversed band, more
 /// modes than DOFs, no mode in the band); [`SolverError::NoConvergence`] if the Sturm check cannot
 /// be satisfied; [`SolverError::Factorization`] if no usable factorization exists.
-pub fn solve_modes(
-    system: &System,
-    request: ModeRequest,
-    params: &EigenParams,
-) -> Result<ModalSolution, SolverError> {
+pub fn solve_modes(system: &System, request: ModeRequest, params: &EigenParams) -> Result<ModalSolution, SolverError> {
     let n = system.n_dofs();
     match request {
         ModeRequest::Lowest(0) => {
-            return Err(SolverError::Request(
-                "zero modes requested; ask for at least one".into(),
-            ));
+            return Err(SolverError::Request("zero modes requested; ask for at least one".into()));
         }
         ModeRequest::Lowest(c) if c > n => {
-            return Err(SolverError::Request(format!(
-                "{c} modes requested but the model has only {n} free DOFs"
-            )));
+            return Err(SolverError::Request(format!("{c} modes requested but the model has only {n} free DOFs")));
         }
         ModeRequest::Band { low_hz, high_hz } => {
             if !(low_hz.is_finite() && high_hz.is_finite() && low_hz >= 0.0 && high_hz > low_hz) {
@@ -266,17 +267,35 @@ pub fn solve_modes(
             }
         }
         ModeRequest::Lowest(_) => {}
+        ModeRequest::BandCapped { low_hz, high_hz, max_count } => {
+            if max_count == 0 {
+                return Err(SolverError::Request("a cap of zero modes; ask for at least one".into()));
+            }
+            let band = ModeRequest::Band { low_hz, high_hz };
+            // From zero, a band holding more modes than the cap is the lowest `max_count` modes.
+            if low_hz == 0.0 && high_hz.is_finite() && high_hz > 0.0 {
+                let (below, _) = sturm_count(system, hz_to_lambda(high_hz), &mut SolveStats::default())?;
+                if below > max_count {
+                    return solve_modes(system, ModeRequest::Lowest(max_count), params);
+                }
+            }
+            // Away from zero the band is solved, then its lowest `max_count` kept.
+            let mut sol = solve_modes(system, band, params)?;
+            sol.retain(|i| i < max_count);
+            return Ok(sol);
+        }
     }
+    let request = match request {
+        ModeRequest::Lowest(c) => Plain::Lowest(c),
+        ModeRequest::Band { low_hz, high_hz } => Plain::Band { low_hz, high_hz },
+        ModeRequest::BandCapped { .. } => unreachable!("handled above"),
+    };
     let dense = match params.method {
         Method::Dense => true,
         Method::Lanczos => false,
         Method::Auto => n <= 120,
     };
-    let mut sol = if dense {
-        solve_dense(system, request)?
-    } else {
-        solve_lanczos(system, request, params)?
-    };
+    let mut sol = if dense { solve_dense(system, request)? } else { solve_lanczos(system, request, params)? };
     let st = sol.sturm_check;
     if !st.passed {
         return Err(SolverError::NoConvergence(format!(
@@ -285,38 +304,26 @@ pub fn solve_modes(
         )));
     }
     if sol.n_modes() == 0 {
-        if let ModeRequest::Band { low_hz, high_hz } = request {
-            return Err(SolverError::Request(format!(
-                "no mode lies in the band [{low_hz}, {high_hz}] Hz"
-            )));
+        if let Plain::Band { low_hz, high_hz } = request {
+            return Err(SolverError::Request(format!("no mode lies in the band [{low_hz}, {high_hz}] Hz")));
         }
     }
     post::finish(system, &mut sol, eigenvalue_scale(system));
     Ok(sol)
 }
 
-fn solve_dense(system: &System, request: ModeRequest) -> Result<ModalSolution, SolverError> {
+fn solve_dense(system: &System, request: Plain) -> Result<ModalSolution, SolverError> {
     let scale = eigenvalue_scale(system);
     let (vals, phi) = dense::all_modes(system, scale, ZERO_EIGENVALUE * scale)?;
-    let n_zero = vals
-        .iter()
-        .filter(|&&l| l <= ZERO_EIGENVALUE * scale)
-        .count();
+    let n_zero = vals.iter().filter(|&&l| l <= ZERO_EIGENVALUE * scale).count();
     let mut stats = SolveStats::default();
     // Sturm check just above the highest selected mode, as for the sparse route.
     let selected = match request {
-        ModeRequest::Lowest(c) => c.min(vals.len()),
-        ModeRequest::Band { high_hz, .. } => {
-            vals.iter().filter(|&&l| l <= hz_to_lambda(high_hz)).count()
-        }
+        Plain::Lowest(c) => c.min(vals.len()),
+        Plain::Band { high_hz, .. } => vals.iter().filter(|&&l| l <= hz_to_lambda(high_hz)).count(),
     };
     let sturm = if selected == 0 {
-        SturmCheck {
-            shift_hz: 0.0,
-            count_expected: 0,
-            count_found: 0,
-            passed: true,
-        }
+        SturmCheck { shift_hz: 0.0, count_expected: 0, count_found: 0, passed: true, lower_shift_hz: None }
     } else {
         let top = check_shift(&vals, selected, &[], 0.0, scale);
         let (cnt, shift) = sturm_count(system, top, &mut stats)?;
@@ -326,6 +333,7 @@ fn solve_dense(system: &System, request: ModeRequest) -> Result<ModalSolution, S
             count_expected: cnt,
             count_found: found,
             passed: cnt == found,
+            lower_shift_hz: None,
         }
     };
     let mut sol = ModalSolution {
@@ -342,40 +350,37 @@ fn solve_dense(system: &System, request: ModeRequest) -> Result<ModalSolution, S
     Ok(sol)
 }
 
-fn select(sol: &mut ModalSolution, request: ModeRequest) {
+fn select(sol: &mut ModalSolution, request: Plain) {
     let vals = sol.eigenvalues.clone();
     match request {
-        ModeRequest::Lowest(c) => sol.retain(|i| i < c),
-        ModeRequest::Band { low_hz, high_hz } => {
+        Plain::Lowest(c) => sol.retain(|i| i < c),
+        Plain::Band { low_hz, high_hz } => {
             let (lo, hi) = (hz_to_lambda(low_hz), hz_to_lambda(high_hz));
             sol.retain(|i| (low_hz == 0.0 || vals[i] >= lo) && vals[i] <= hi);
         }
     }
 }
 
-/// Converged eigenvectors locked so far, with their M-images and eigenvalues.
+/// Converged eigenvectors locked so far, with their eigenvalues.
 struct Locked {
     y: Mat<f64>,
-    my: Mat<f64>,
     lambda: Vec<f64>,
 }
 
 impl Locked {
-    fn push(&mut self, system: &System, v: MatRef<'_, f64>, lambda: &[f64]) {
+    fn new(n: usize) -> Self {
+        Self { y: Mat::zeros(n, 0), lambda: Vec::new() }
+    }
+
+    fn push(&mut self, v: MatRef<'_, f64>, lambda: &[f64]) {
         if v.ncols() == 0 {
             return;
         }
-        let n = self.y.nrows();
-        let m = self.y.ncols();
+        let (n, m) = (self.y.nrows(), self.y.ncols());
         let mut y2 = Mat::<f64>::zeros(n, m + v.ncols());
         y2.subcols_mut(0, m).copy_from(self.y.as_ref());
         y2.subcols_mut(m, v.ncols()).copy_from(v);
-        let mv = system.mul_m(v);
-        let mut my2 = Mat::<f64>::zeros(n, m + v.ncols());
-        my2.subcols_mut(0, m).copy_from(self.my.as_ref());
-        my2.subcols_mut(m, v.ncols()).copy_from(mv.as_ref());
         self.y = y2;
-        self.my = my2;
         self.lambda.extend_from_slice(lambda);
     }
 
@@ -384,6 +389,10 @@ impl Locked {
         let mut order: Vec<usize> = (0..self.lambda.len()).collect();
         order.sort_by(|&a, &b| self.lambda[a].total_cmp(&self.lambda[b]).then(a.cmp(&b)));
         (order.iter().map(|&i| self.lambda[i]).collect(), order)
+    }
+
+    fn count_in(&self, lo: f64, hi: f64) -> usize {
+        self.lambda.iter().filter(|&&l| l >= lo && l < hi).count()
     }
 }
 
@@ -406,187 +415,347 @@ fn shift_invert_ritz(
     let g = Mat::from_fn(k, k, |i, j| 0.5 * (g[(i, j)] + g[(j, i)]));
     let b = Mat::from_fn(k, k, |i, j| 0.5 * (b[(i, j)] + b[(j, i)]));
     let llt = b.llt(Side::Lower).map_err(|e| {
-        SolverError::NoConvergence(format!(
-            "the computed vectors are not linearly independent ({e:?})"
-        ))
+        SolverError::NoConvergence(format!("the computed vectors are not linearly independent ({e:?})"))
     })?;
     let l = llt.L().to_owned();
     let mut c = g.clone();
-    faer::linalg::triangular_solve::solve_lower_triangular_in_place(
-        l.as_ref(),
-        c.as_mut(),
-        faer::Par::Seq,
-    );
+    faer::linalg::triangular_solve::solve_lower_triangular_in_place(l.as_ref(), c.as_mut(), faer::Par::Seq);
     let mut c = c.transpose().to_owned();
-    faer::linalg::triangular_solve::solve_lower_triangular_in_place(
-        l.as_ref(),
-        c.as_mut(),
-        faer::Par::Seq,
-    );
+    faer::linalg::triangular_solve::solve_lower_triangular_in_place(l.as_ref(), c.as_mut(), faer::Par::Seq);
     let c = Mat::from_fn(k, k, |i, j| 0.5 * (c[(i, j)] + c[(j, i)]));
-    let evd = c
-        .self_adjoint_eigen(Side::Lower)
-        .map_err(|e| SolverError::NoConvergence(format!("{e:?}")))?;
+    let evd = c.self_adjoint_eigen(Side::Lower).map_err(|e| SolverError::NoConvergence(format!("{e:?}")))?;
     let mut s = evd.U().to_owned();
-    faer::linalg::triangular_solve::solve_upper_triangular_in_place(
-        l.transpose(),
-        s.as_mut(),
-        faer::Par::Seq,
-    );
+    faer::linalg::triangular_solve::solve_upper_triangular_in_place(l.transpose(), s.as_mut(), faer::Par::Seq);
     // Largest θ first is lowest λ first.
     let order: Vec<usize> = (0..k).rev().collect();
-    let lambda = order
-        .iter()
-        .map(|&i| sigma + 1.0 / evd.S().column_vector()[i])
-        .collect();
+    let lambda = order.iter().map(|&i| sigma + 1.0 / evd.S().column_vector()[i]).collect();
     let s = Mat::from_fn(k, k, |r, c| s[(r, order[c])]);
     Ok((lambda, x * s))
 }
 
-fn solve_lanczos(
+/// Basis sizes for a run that wants `need` pairs with block size `p`: the basis grows to about
+/// twice the wanted count (thick restarts keep 1.25 times it), never below 8 blocks.
+fn basis_sizes(need: usize, p: usize, boost: usize) -> (usize, usize) {
+    let keep = need + need / 4 + p;
+    let max_dim = ((keep + keep.max(4 * p)) * boost).max(8 * p);
+    (max_dim, keep * boost.min(2))
+}
+
+/// The shift-invert factor below the spectrum: σ = 0 when K is positive definite (the rank-revealing
+/// LDLᵀ of K serves directly), otherwise σ = −δ with δ small against the element eigenvalue scale
+/// (K + δM is then positive definite, and the zero-energy modes have θ = 1/δ). Returns the factor, σ
+/// and the DOFs where K has no stiffness.
+fn bottom_factor(
     system: &System,
-    request: ModeRequest,
-    params: &EigenParams,
-) -> Result<ModalSolution, SolverError> {
-    let n = system.n_dofs();
-    let mut stats = SolveStats {
-        factor_entries: system.factorizer.factor_len(),
-        ..SolveStats::default()
-    };
-    let scale = eigenvalue_scale(system);
-    let zero_dofs = zero_energy_dofs(system)?;
+    scale: f64,
+    stats: &mut SolveStats,
+) -> Result<(Factor, f64, Vec<usize>), SolverError> {
+    let t = std::time::Instant::now();
+    let (factor, zero_dofs) = system.factorizer.ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
+    stats.factor_seconds += t.elapsed().as_secs_f64();
     stats.factorizations += 1;
-    // Shift and its Cholesky factor.
-    let mut sigma = if zero_dofs.is_empty() {
-        0.0
-    } else {
-        -RIGID_SHIFT * scale
-    };
-    let mut factor: Option<Factor> = None;
+    if zero_dofs.is_empty() && factor.inertia().negative == 0 {
+        return Ok((factor, 0.0, zero_dofs));
+    }
+    drop(factor);
+    let mut sigma = -RIGID_SHIFT * scale;
     for _ in 0..4 {
         stats.factorizations += 1;
-        match system
-            .factorizer
-            .llt(&shifted(&system.k, &system.m, sigma))?
-        {
-            Some(f) => {
-                factor = Some(f);
-                break;
-            }
-            None => {
-                sigma = if sigma == 0.0 {
-                    -RIGID_SHIFT * scale
-                } else {
-                    100.0 * sigma
-                }
+        let t = std::time::Instant::now();
+        let factor = system.factorizer.llt(&system.shifted(sigma))?;
+        stats.factor_seconds += t.elapsed().as_secs_f64();
+        if let Some(f) = factor {
+            return Ok((f, sigma, zero_dofs));
+        }
+        sigma *= 100.0;
+    }
+    Err(SolverError::Factorization {
+        shift: sigma,
+        detail: "K - sigma M is not positive definite below the spectrum; the mass matrix may be singular".into(),
+    })
+}
+
+/// A shift-invert operator at an interior shift near `target` (λ), moved slightly if the shift falls
+/// on an eigenvalue.
+fn interior_factor(system: &System, target: f64, stats: &mut SolveStats) -> Result<(Factor, f64), SolverError> {
+    let mut sigma = target;
+    for attempt in 0..6 {
+        stats.factorizations += 1;
+        let t = std::time::Instant::now();
+        let factor = system.factorizer.lblt(&system.shifted(sigma))?;
+        stats.factor_seconds += t.elapsed().as_secs_f64();
+        if let Some(f) = factor {
+            return Ok((f, sigma));
+        }
+        sigma = target * (1.0 + 1e-7 * 10f64.powi(attempt));
+    }
+    Err(SolverError::Factorization { shift: target, detail: "no usable LBLᵀ near this shift".into() })
+}
+
+/// Runs Lanczos on `op` until `locked` holds `expected` eigenvalues in [lo, hi) — or, with
+/// `expected = None`, until it holds `count` eigenvalues in total. Restarts with fresh seeds when a
+/// run returns fewer than wanted (modes of higher multiplicity than the block, or an unlucky start).
+#[allow(clippy::too_many_arguments)]
+fn fill(
+    op: &Operator<'_>,
+    sigma: f64,
+    select: Select,
+    window: [f64; 2],
+    expected: usize,
+    locked: &mut Locked,
+    params: &EigenParams,
+    stats: &mut SolveStats,
+) -> Result<Vec<f64>, SolverError> {
+    let n = op.system.n_dofs();
+    let p = params.block_size.max(1);
+    let mut runs = 0;
+    let mut boost = 1;
+    let mut last_theta = Vec::new();
+    loop {
+        let have = locked.count_in(window[0], window[1]);
+        if have >= expected {
+            return Ok(last_theta);
+        }
+        let need = expected - have;
+        if runs > params.max_restarts || locked.y.ncols() >= n {
+            return Err(SolverError::NoConvergence(format!(
+                "{need} mode(s) still missing in [{:.6}, {:.6}] Hz after {runs} Lanczos runs (block size {p}); \
+                 raise the block size if modes of higher multiplicity are expected",
+                lambda_to_hz(window[0]),
+                lambda_to_hz(window[1])
+            )));
+        }
+        let (max_dim, keep) = basis_sizes(need, p, boost);
+        let run = RunParams {
+            block: p,
+            max_dim: max_dim.min(n - locked.y.ncols()),
+            keep,
+            tolerance: params.tolerance,
+            seed: params.seed.wrapping_add(runs as u64),
+            select,
+            max_restarts: 50,
+        };
+        // Ask for a few more than needed, so that the converged set is contiguous with the wanted one
+        // (a mode not yet resolved inside a dense cluster would otherwise be skipped and found only
+        // after the Sturm check).
+        let buffer = (need / 10).max(2);
+        let pairs = lanczos::run(op, locked.y.as_ref(), (need + buffer).min(n - locked.y.ncols()), &run)?;
+        runs += 1;
+        stats.lanczos_runs += 1;
+        stats.block_solves += pairs.n_solves;
+        stats.restarts += pairs.n_restarts;
+        last_theta = pairs.all_theta.clone();
+        if pairs.theta.len() < need {
+            boost *= 2;
+        }
+        // Lock the converged pairs inside the window; the others belong to a neighbouring slice.
+        let lambda: Vec<f64> = pairs.theta.iter().map(|&t| sigma + 1.0 / t).collect();
+        let inside: Vec<usize> =
+            (0..lambda.len()).filter(|&i| lambda[i] >= window[0] && lambda[i] < window[1]).collect();
+        let v = Mat::from_fn(n, inside.len(), |r, c| pairs.vectors[(r, inside[c])]);
+        let l: Vec<f64> = inside.iter().map(|&i| lambda[i]).collect();
+        locked.push(v.as_ref(), &l);
+        if inside.is_empty() && pairs.theta.len() >= need {
+            return Err(SolverError::NoConvergence(format!(
+                "the Lanczos run converged outside the wanted window [{:.6}, {:.6}] Hz",
+                lambda_to_hz(window[0]),
+                lambda_to_hz(window[1])
+            )));
+        }
+    }
+}
+
+fn solve_lanczos(system: &System, request: Plain, params: &EigenParams) -> Result<ModalSolution, SolverError> {
+    let n = system.n_dofs();
+    let mut stats = SolveStats { factor_entries: system.factorizer.factor_len(), ..SolveStats::default() };
+    let scale = eigenvalue_scale(system);
+    let mut locked = Locked::new(n);
+    // Bands far from zero are solved with shifts inside them (spectrum slicing).
+    if let Plain::Band { low_hz, high_hz } = request {
+        if low_hz > 0.0 {
+            let (lo, hi) = (hz_to_lambda(low_hz), hz_to_lambda(high_hz));
+            let (below_lo, lo_shift) = sturm_count(system, lo, &mut stats)?;
+            let (below_hi, hi_shift) = sturm_count(system, hi, &mut stats)?;
+            let in_band = below_hi.saturating_sub(below_lo);
+            if in_band > 0 && below_lo > in_band {
+                return solve_slices(system, [lo_shift, hi_shift], [below_lo, below_hi], params, stats, scale);
             }
         }
     }
-    let factor = factor.ok_or_else(|| SolverError::Factorization {
-        shift: sigma,
-        detail: "K - sigma M is not positive definite below the spectrum; the mass matrix may be singular".into(),
-    })?;
-    let op = Operator {
-        system,
-        factor: &factor,
-    };
-    let mut locked = Locked {
-        y: Mat::zeros(n, 0),
-        my: Mat::zeros(n, 0),
-        lambda: Vec::new(),
-    };
+    let (factor, sigma, zero_dofs) = bottom_factor(system, scale, &mut stats)?;
+    let op = Operator::new(system, &factor);
     // Zero-energy subspace by subspace iteration: θ = 1/|σ| is far above every elastic θ.
     if !zero_dofs.is_empty() && sigma < 0.0 {
         let z = zero_space(&op, zero_dofs.len().min(n), params.seed, &mut stats);
         let (vals, vecs) = shift_invert_ritz(&op, sigma, z.as_ref(), &mut stats)?;
-        let keep: Vec<usize> = (0..vals.len())
-            .filter(|&i| vals[i].abs() <= 1e-3 * sigma.abs())
-            .collect();
+        let keep: Vec<usize> = (0..vals.len()).filter(|&i| vals[i].abs() <= 1e-3 * sigma.abs()).collect();
         let v = Mat::from_fn(n, keep.len(), |r, c| vecs[(r, keep[c])]);
         let l: Vec<f64> = keep.iter().map(|&i| vals[i]).collect();
-        locked.push(system, v.as_ref(), &l);
+        locked.push(v.as_ref(), &l);
     }
-    let p = params.block_size.max(1);
-    // For a band, the Sturm count at its top says how many modes to find.
-    let band = match request {
-        ModeRequest::Band { high_hz, .. } => {
-            Some(sturm_count(system, hz_to_lambda(high_hz), &mut stats)?)
-        }
-        ModeRequest::Lowest(_) => None,
-    };
-    let mut runs = 0usize;
-    let mut last_all_theta: Vec<f64> = Vec::new();
-    let mut boost = 1usize;
-    let sturm = loop {
-        let (vals, _) = locked.sorted();
-        // How many more modes to look for, and the completeness check when none.
-        let need = match (request, band) {
-            (ModeRequest::Band { .. }, Some((cnt, shift))) => {
-                let found = vals.iter().filter(|&&l| l < shift).count();
-                if found >= cnt {
-                    break SturmCheck {
-                        shift_hz: lambda_to_hz(shift),
-                        count_expected: cnt,
-                        count_found: found,
-                        passed: found == cnt,
-                    };
-                }
-                cnt - found
+    let everything = [f64::NEG_INFINITY, f64::INFINITY];
+    let sturm = match request {
+        Plain::Band { high_hz, .. } => {
+            let (cnt, shift) = sturm_count(system, hz_to_lambda(high_hz), &mut stats)?;
+            fill(&op, sigma, Select::Largest, [f64::NEG_INFINITY, shift], cnt, &mut locked, params, &mut stats)?;
+            let found = locked.count_in(f64::NEG_INFINITY, shift);
+            SturmCheck {
+                shift_hz: lambda_to_hz(shift),
+                count_expected: cnt,
+                count_found: found,
+                passed: found == cnt,
+                lower_shift_hz: None,
             }
-            (ModeRequest::Lowest(c), _) if vals.len() < c => c - vals.len(),
-            (ModeRequest::Lowest(c), _) => {
-                let top = check_shift(&vals, c, &last_all_theta, sigma, scale);
+        }
+        Plain::Lowest(c) => {
+            let mut theta = fill(&op, sigma, Select::Largest, everything, c, &mut locked, params, &mut stats)?;
+            // Completeness: the Sturm count just above the c-th eigenvalue; any missing mode below it
+            // is searched for and the check repeated.
+            loop {
+                let (vals, _) = locked.sorted();
+                let top = check_shift(&vals, c, &theta, sigma, scale);
                 let (cnt, shift) = sturm_count(system, top, &mut stats)?;
-                let found = vals.iter().filter(|&&l| l < shift).count();
+                let found = locked.count_in(f64::NEG_INFINITY, shift);
                 if found >= cnt {
                     break SturmCheck {
                         shift_hz: lambda_to_hz(shift),
                         count_expected: cnt,
                         count_found: found,
                         passed: found == cnt,
+                        lower_shift_hz: None,
                     };
                 }
-                cnt - found
+                if stats.lanczos_runs > params.max_restarts {
+                    return Err(SolverError::NoConvergence(format!(
+                        "Sturm check failed: {cnt} eigenvalues lie below {:.6} Hz but {found} were found",
+                        lambda_to_hz(shift)
+                    )));
+                }
+                theta = fill(
+                    &op,
+                    sigma,
+                    Select::Largest,
+                    [f64::NEG_INFINITY, shift],
+                    cnt,
+                    &mut locked,
+                    params,
+                    &mut stats,
+                )?;
             }
-            (ModeRequest::Band { .. }, None) => 0,
-        };
-        let have = locked.y.ncols();
-        if runs > params.max_restarts || have >= n {
-            return Err(SolverError::NoConvergence(format!(
-                "{need} mode(s) still missing below the top of the request after {runs} Lanczos runs \
-                 (block size {p}); raise the block size if modes of higher multiplicity are expected"
-            )));
         }
-        let run_params = RunParams {
-            block: p,
-            max_dim: ((2 * need + 6 * p) * boost).max(8 * p).min(n - have),
-            tolerance: params.tolerance,
-            seed: params.seed.wrapping_add(runs as u64),
-        };
-        let pairs = lanczos::run(
-            &op,
-            locked.y.as_ref(),
-            locked.my.as_ref(),
-            need,
-            &run_params,
-        )?;
-        runs += 1;
-        stats.lanczos_runs += 1;
-        stats.block_solves += pairs.n_solves;
-        last_all_theta = pairs.all_theta.clone();
-        if pairs.theta.len() < need {
-            boost *= 2;
-        }
-        let l: Vec<f64> = pairs.theta.iter().map(|&t| sigma + 1.0 / t).collect();
-        locked.push(system, pairs.vectors.as_ref(), &l);
     };
+    refine(&op, &mut locked, &mut stats)?;
+    stats.solve_seconds += op.solve_seconds.get();
+    let mut sol = finish_locked(locked, sturm, sigma, stats, scale);
+    match request {
+        Plain::Lowest(c) => sol.retain(|i| i < c),
+        Plain::Band { low_hz, high_hz } => {
+            let (lo, hi) = (hz_to_lambda(low_hz), hz_to_lambda(high_hz));
+            let vals = sol.eigenvalues.clone();
+            sol.retain(|i| (low_hz == 0.0 || vals[i] >= lo) && vals[i] <= hi);
+        }
+    }
+    Ok(sol)
+}
+
+/// Largest number of modes solved from one interior shift; longer bands are cut into slices.
+const SLICE_MODES: usize = 120;
+
+/// All eigenvalues in [bounds[0], bounds[1]) (with `counts` below each bound from the Sturm
+/// sequence) by slices with an interior shift each: the band is cut into equal λ-intervals holding
+/// at most about [`SLICE_MODES`] modes, each solved from an LBLᵀ factor at its centre, so the wanted
+/// modes are the largest |θ| there. The slices' own Sturm counts make their union provably complete.
+fn solve_slices(
+    system: &System,
+    bounds: [f64; 2],
+    counts: [usize; 2],
+    params: &EigenParams,
+    mut stats: SolveStats,
+    scale: f64,
+) -> Result<ModalSolution, SolverError> {
+    let n = system.n_dofs();
+    let in_band = counts[1] - counts[0];
+    let n_slices = in_band.div_ceil(SLICE_MODES).max(1);
+    let mut edges = vec![(bounds[0], counts[0])];
+    for k in 1..n_slices {
+        let target = bounds[0] + (bounds[1] - bounds[0]) * k as f64 / n_slices as f64;
+        let (c, s) = sturm_count(system, target, &mut stats)?;
+        edges.push((s, c));
+    }
+    edges.push((bounds[1], counts[1]));
+    let mut locked = Locked::new(n);
+    for w in edges.windows(2) {
+        let ((a, ca), (b, cb)) = (w[0], w[1]);
+        let expected = cb.saturating_sub(ca);
+        if expected == 0 {
+            continue;
+        }
+        let (factor, sigma) = interior_factor(system, 0.5 * (a + b), &mut stats)?;
+        let op = Operator::new(system, &factor);
+        fill(&op, sigma, Select::LargestMagnitude, [a, b], expected, &mut locked, params, &mut stats)?;
+        stats.solve_seconds += op.solve_seconds.get();
+    }
+    let found = locked.count_in(bounds[0], bounds[1]);
+    let sturm = SturmCheck {
+        shift_hz: lambda_to_hz(bounds[1]),
+        count_expected: in_band,
+        count_found: found,
+        passed: found == in_band,
+        lower_shift_hz: Some(lambda_to_hz(bounds[0])),
+    };
+    Ok(finish_locked(locked, sturm, bounds[0], stats, scale))
+}
+
+/// One step of inverse iteration on the converged set, then Rayleigh–Ritz on its span: Z = Op Y
+/// damps every error component along an eigenvector j by θ_j/θ_i, which is tiny for the high
+/// modes whose components dominate the residual ‖Kφ − λMφ‖ (K amplifies them by up to λ_max/λ).
+/// The Rayleigh–Ritz with (ZᵀKZ, ZᵀMZ) gives M-orthonormal vectors (and resolves the mixing inside
+/// clusters); the eigenvalues keep their shift-invert values, which are accurate even when K is
+/// very ill-conditioned. One block solve with every locked vector.
+fn refine(op: &Operator<'_>, locked: &mut Locked, stats: &mut SolveStats) -> Result<(), SolverError> {
+    let (lambda, order) = locked.sorted();
+    let k = lambda.len();
+    if k == 0 {
+        return Ok(());
+    }
+    let n = locked.y.nrows();
+    let y = Mat::from_fn(n, k, |r, c| locked.y[(r, order[c])]);
+    let my = op.system.mul_m(y.as_ref());
+    let z = op.apply_to_mx(my.as_ref());
+    stats.block_solves += 1;
+    let kz = op.system.mul_k(z.as_ref());
+    let mz = op.system.mul_m(z.as_ref());
+    let kr = z.transpose() * kz.as_ref();
+    let mr = z.transpose() * mz.as_ref();
+    drop((kz, mz));
+    let kr = Mat::from_fn(k, k, |i, j| 0.5 * (kr[(i, j)] + kr[(j, i)]));
+    let mr = Mat::from_fn(k, k, |i, j| 0.5 * (mr[(i, j)] + mr[(j, i)]));
+    let Ok(llt) = mr.llt(Side::Lower) else {
+        // Numerically dependent refined vectors: keep the Lanczos vectors.
+        return Ok(());
+    };
+    let l = llt.L().to_owned();
+    let mut c = kr.clone();
+    faer::linalg::triangular_solve::solve_lower_triangular_in_place(l.as_ref(), c.as_mut(), faer::Par::Seq);
+    let mut c = c.transpose().to_owned();
+    faer::linalg::triangular_solve::solve_lower_triangular_in_place(l.as_ref(), c.as_mut(), faer::Par::Seq);
+    let c = Mat::from_fn(k, k, |i, j| 0.5 * (c[(i, j)] + c[(j, i)]));
+    let Ok(evd) = c.self_adjoint_eigen(Side::Lower) else { return Ok(()) };
+    let mut s = evd.U().to_owned();
+    faer::linalg::triangular_solve::solve_upper_triangular_in_place(l.transpose(), s.as_mut(), faer::Par::Seq);
+    // Ascending Rayleigh quotients pair with the ascending shift-invert eigenvalues.
+    locked.y = &z * &s;
+    locked.lambda = lambda;
+    Ok(())
+}
+
+/// The modal solution of the locked pairs, ascending.
+fn finish_locked(locked: Locked, sturm: SturmCheck, sigma: f64, stats: SolveStats, scale: f64) -> ModalSolution {
+    let n = locked.y.nrows();
     let (vals, order) = locked.sorted();
     let vecs = Mat::from_fn(n, order.len(), |r, c| locked.y[(r, order[c])]);
-    let n_zero = vals
-        .iter()
-        .filter(|&&l| l <= ZERO_EIGENVALUE * scale)
-        .count();
-    let mut sol = ModalSolution {
+    let n_zero = vals.iter().filter(|&&l| l <= ZERO_EIGENVALUE * scale).count();
+    ModalSolution {
         residuals: vec![0.0; vals.len()],
         eigenvalues: vals,
         shapes: vecs,
@@ -595,16 +764,7 @@ fn solve_lanczos(
         n_zero_energy: n_zero,
         shift: sigma,
         stats,
-    };
-    match request {
-        ModeRequest::Lowest(c) => sol.retain(|i| i < c),
-        ModeRequest::Band { low_hz, high_hz } => {
-            let (lo, hi) = (hz_to_lambda(low_hz), hz_to_lambda(high_hz));
-            let vals = sol.eigenvalues.clone();
-            sol.retain(|i| (low_hz == 0.0 || vals[i] >= lo) && vals[i] <= hi);
-        }
     }
-    Ok(sol)
 }
 
 /// Subspace iteration for the `k`-dimensional zero-energy space: X ← (K − σM)⁻¹ M X, columns
@@ -687,16 +847,8 @@ fn mechanism(
 ) -> SolverError {
     let found = sol.n_zero_energy;
     let kinds = motion_kinds(structure, system, sol);
-    let kinds = if kinds.is_empty() {
-        "directions no support holds".to_string()
-    } else {
-        kinds.join(", ")
-    };
-    let mut at: Vec<String> = pivots
-        .iter()
-        .take(6)
-        .map(|&d| system.dofs.describe(d, structure))
-        .collect();
+    let kinds = if kinds.is_empty() { "directions no support holds".to_string() } else { kinds.join(", ") };
+    let mut at: Vec<String> = pivots.iter().take(6).map(|&d| system.dofs.describe(d)).collect();
     if pivots.len() > 6 {
         at.push("...".into());
     }
@@ -708,23 +860,13 @@ fn mechanism(
             if found == 1 { "" } else { "s" },
             modes.join(", "),
             if found == 1 { "s" } else { "" },
-            if at.is_empty() {
-                String::new()
-            } else {
-                format!(" (no stiffness found at {})", at.join(", "))
-            },
+            if at.is_empty() { String::new() } else { format!(" (no stiffness found at {})", at.join(", ")) },
             if found == 1 { "it" } else { "them" },
         )
     } else {
-        format!(
-            "only {found} zero-frequency mode(s) exist; state the intended count as \"rigid_body_modes\""
-        )
+        format!("only {found} zero-frequency mode(s) exist; state the intended count as \"rigid_body_modes\"")
     };
-    SolverError::Mechanism {
-        found,
-        expected,
-        detail,
-    }
+    SolverError::Mechanism { found, expected, detail }
 }
 
 /// DOF kinds (`ux` … `rz`) that carry at least a tenth of the motion of the zero-frequency modes.
@@ -761,10 +903,7 @@ fn motion_kinds(structure: &Structure, system: &System, sol: &ModalSolution) -> 
             share[j % 6] += x * x;
         }
     }
-    (0..6)
-        .filter(|&c| share[c] >= 0.1)
-        .map(|c| NAMES[c])
-        .collect()
+    (0..6).filter(|&c| share[c] >= 0.1).map(|c| NAMES[c]).collect()
 }
 
 /// A shift just above the `c`-th computed eigenvalue and below the next one (computed or estimated
@@ -781,11 +920,7 @@ fn check_shift(vals: &[f64], c: usize, ritz_theta: &[f64], sigma: f64, scale: f6
     if lc <= ZERO_EIGENVALUE * scale {
         // Only zero-energy modes wanted: count below a small positive value.
         let small = sigma.abs().max(1e-6 * scale);
-        return if next.is_finite() {
-            (0.5 * next).min(small)
-        } else {
-            small
-        };
+        return if next.is_finite() { (0.5 * next).min(small) } else { small };
     }
     if next.is_finite() && next > lc {
         lc + (0.5 * (next - lc)).min(1e-3 * lc).max(1e-7 * lc)

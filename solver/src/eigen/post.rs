@@ -47,11 +47,8 @@ pub(crate) fn finish(system: &System, sol: &mut ModalSolution, eigenvalue_scale:
             kn += k_phi[(i, c)] * k_phi[(i, c)];
             mn += m_phi[(i, c)] * m_phi[(i, c)];
         }
-        let denom = if c < sol.n_zero_energy {
-            eigenvalue_scale * mn.sqrt()
-        } else {
-            lambda.abs() * mn.sqrt() + kn.sqrt()
-        };
+        let denom =
+            if c < sol.n_zero_energy { eigenvalue_scale * mn.sqrt() } else { lambda.abs() * mn.sqrt() + kn.sqrt() };
         sol.residuals[c] = if denom > 0.0 { r2.sqrt() / denom } else { 0.0 };
     }
     let g = sol.shapes.transpose() * m_phi.as_ref();
@@ -111,10 +108,7 @@ fn staircase_rotation(l: &Mat<f64>) -> Mat<f64> {
         if row + 1 >= p || scale == 0.0 {
             break;
         }
-        let norm = (row..p)
-            .map(|i| a[(i, col)] * a[(i, col)])
-            .sum::<f64>()
-            .sqrt();
+        let norm = (row..p).map(|i| a[(i, col)] * a[(i, col)]).sum::<f64>().sqrt();
         if norm <= 1e-8 * scale {
             continue;
         }
@@ -181,11 +175,7 @@ fn rigid_motions(system: &System) -> Mat<f64> {
                     for a in 0..3 {
                         let mut w = [0.0; 3];
                         w[a] = 1.0;
-                        let v = [
-                            w[1] * x[2] - w[2] * x[1],
-                            w[2] * x[0] - w[0] * x[2],
-                            w[0] * x[1] - w[1] * x[0],
-                        ];
+                        let v = [w[1] * x[2] - w[2] * x[1], w[2] * x[0] - w[0] * x[2], w[0] * x[1] - w[1] * x[0]];
                         r[(i, 3 + a)] = v[component];
                     }
                 } else {
@@ -198,6 +188,8 @@ fn rigid_motions(system: &System) -> Mat<f64> {
                     r[(i, d)] = e[d];
                 }
             }
+            // Matrices without geometry: no rigid motions are known (orientation is skipped).
+            crate::dofs::DofOwner::Row { .. } => {}
         }
     }
     r
@@ -212,7 +204,5 @@ fn rigid_motions(system: &System) -> Mat<f64> {
 /// supported body they add up to less, the rest staying with the supports.
 pub fn participation(system: &System, sol: &ModalSolution) -> Vec<[f64; 3]> {
     let l = sol.shapes().transpose() * system.base_inertia.as_ref();
-    (0..sol.n_modes())
-        .map(|i| [l[(i, 0)], l[(i, 1)], l[(i, 2)]])
-        .collect()
+    (0..sol.n_modes()).map(|i| [l[(i, 0)], l[(i, 1)], l[(i, 2)]]).collect()
 }

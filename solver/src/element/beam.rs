@@ -47,19 +47,9 @@ pub fn bending_stiffness(ei: f64, l: f64, phi: f64) -> [[f64; 4]; 4] {
     let l2 = l * l;
     [
         [12.0 * c, 6.0 * l * c, -12.0 * c, 6.0 * l * c],
-        [
-            6.0 * l * c,
-            (4.0 + phi) * l2 * c,
-            -6.0 * l * c,
-            (2.0 - phi) * l2 * c,
-        ],
+        [6.0 * l * c, (4.0 + phi) * l2 * c, -6.0 * l * c, (2.0 - phi) * l2 * c],
         [-12.0 * c, -6.0 * l * c, 12.0 * c, -6.0 * l * c],
-        [
-            6.0 * l * c,
-            (2.0 - phi) * l2 * c,
-            -6.0 * l * c,
-            (4.0 + phi) * l2 * c,
-        ],
+        [6.0 * l * c, (2.0 - phi) * l2 * c, -6.0 * l * c, (4.0 + phi) * l2 * c],
     ]
 }
 
@@ -126,12 +116,7 @@ fn shear_parameter(e: f64, i: f64, g: f64, shear_area: Option<f64>, l: f64) -> f
 }
 
 /// Stiffness and mass in local axes for a beam of length `l` (m).
-pub fn local_matrices(
-    l: f64,
-    s: &SectionProperties,
-    m: &MaterialProperties,
-    kind: MassKind,
-) -> (Mat12, Mat12) {
+pub fn local_matrices(l: f64, s: &SectionProperties, m: &MaterialProperties, kind: MassKind) -> (Mat12, Mat12) {
     let (e, g, rho) = (m.youngs_modulus, m.shear_modulus, m.density);
     let mut k = [[0.0; 12]; 12];
     let mut mm = [[0.0; 12]; 12];
@@ -154,40 +139,19 @@ pub fn local_matrices(
     let phi_y = shear_parameter(e, s.second_moment_z, g, s.shear_area_y, l);
     let kb = bending_stiffness(e * s.second_moment_z, l, phi_y);
     let mb = bending_mass(rho * s.area, rho * s.second_moment_z, l, phi_y);
-    scatter4(
-        &mut k,
-        &mut mm,
-        &kb,
-        &mb,
-        [1, 5, 7, 11],
-        [1.0, 1.0, 1.0, 1.0],
-    );
+    scatter4(&mut k, &mut mm, &kb, &mb, [1, 5, 7, 11], [1.0, 1.0, 1.0, 1.0]);
     // Bending in x-z: (w, θy) = DOFs (2, 4, 8, 10), with θy = −dw/dx.
     let phi_z = shear_parameter(e, s.second_moment_y, g, s.shear_area_z, l);
     let kb = bending_stiffness(e * s.second_moment_y, l, phi_z);
     let mb = bending_mass(rho * s.area, rho * s.second_moment_y, l, phi_z);
-    scatter4(
-        &mut k,
-        &mut mm,
-        &kb,
-        &mb,
-        [2, 4, 8, 10],
-        [1.0, -1.0, 1.0, -1.0],
-    );
+    scatter4(&mut k, &mut mm, &kb, &mb, [2, 4, 8, 10], [1.0, -1.0, 1.0, -1.0]);
     if kind == MassKind::Lumped {
         mm = lump_hrz(&mm, rho * s.area * l, rho * s.polar_moment * l);
     }
     (k, mm)
 }
 
-fn scatter4(
-    k: &mut Mat12,
-    m: &mut Mat12,
-    kb: &[[f64; 4]; 4],
-    mb: &[[f64; 4]; 4],
-    dofs: [usize; 4],
-    sign: [f64; 4],
-) {
+fn scatter4(k: &mut Mat12, m: &mut Mat12, kb: &[[f64; 4]; 4], mb: &[[f64; 4]; 4], dofs: [usize; 4], sign: [f64; 4]) {
     for i in 0..4 {
         for j in 0..4 {
             let s = sign[i] * sign[j];
@@ -224,16 +188,8 @@ pub fn rotation(a: [f64; 3], b: [f64; 3], orientation: [f64; 3]) -> [[f64; 3]; 3
     let d = [b[0] - a[0], b[1] - a[1], b[2] - a[2]];
     let ex = normalise(d);
     let dot = orientation[0] * ex[0] + orientation[1] * ex[1] + orientation[2] * ex[2];
-    let ey = normalise([
-        orientation[0] - dot * ex[0],
-        orientation[1] - dot * ex[1],
-        orientation[2] - dot * ex[2],
-    ]);
-    let ez = [
-        ex[1] * ey[2] - ex[2] * ey[1],
-        ex[2] * ey[0] - ex[0] * ey[2],
-        ex[0] * ey[1] - ex[1] * ey[0],
-    ];
+    let ey = normalise([orientation[0] - dot * ex[0], orientation[1] - dot * ex[1], orientation[2] - dot * ex[2]]);
+    let ez = [ex[1] * ey[2] - ex[2] * ey[1], ex[2] * ey[0] - ex[0] * ey[2], ex[0] * ey[1] - ex[1] * ey[0]];
     [ex, ey, ez]
 }
 
@@ -292,12 +248,7 @@ mod tests {
     use super::*;
 
     fn steel() -> MaterialProperties {
-        MaterialProperties {
-            youngs_modulus: 2.1e11,
-            shear_modulus: 2.1e11 / 2.6,
-            poisson_ratio: 0.3,
-            density: 7850.0,
-        }
+        MaterialProperties { youngs_modulus: 2.1e11, shear_modulus: 2.1e11 / 2.6, poisson_ratio: 0.3, density: 7850.0 }
     }
 
     fn tube(shear: bool) -> SectionProperties {
@@ -363,19 +314,13 @@ mod tests {
             let (_, nt, dnv, dnt) = shape_functions(xi, l, phi);
             for i in 0..4 {
                 for j in 0..4 {
-                    e[i][j] +=
-                        w * l * (ei * dnt[i] * dnt[j] + kga * (dnv[i] - nt[i]) * (dnv[j] - nt[j]));
+                    e[i][j] += w * l * (ei * dnt[i] * dnt[j] + kga * (dnv[i] - nt[i]) * (dnv[j] - nt[j]));
                 }
             }
         }
         for i in 0..4 {
             for j in 0..4 {
-                assert!(
-                    close(k[i][j], e[i][j], 1e-12),
-                    "{i} {j}: {} {}",
-                    k[i][j],
-                    e[i][j]
-                );
+                assert!(close(k[i][j], e[i][j], 1e-12), "{i} {j}: {} {}", k[i][j], e[i][j]);
             }
         }
     }
@@ -384,14 +329,8 @@ mod tests {
     fn free_element_has_six_rigid_modes_and_keeps_mass() {
         for kind in [MassKind::Consistent, MassKind::Lumped] {
             for shear in [false, true] {
-                let (k, m) = global_matrices(
-                    [0.1, 0.2, 0.3],
-                    [0.5, -0.1, 0.9],
-                    [0.0, 0.0, 1.0],
-                    &tube(shear),
-                    &steel(),
-                    kind,
-                );
+                let (k, m) =
+                    global_matrices([0.1, 0.2, 0.3], [0.5, -0.1, 0.9], [0.0, 0.0, 1.0], &tube(shear), &steel(), kind);
                 // Rigid motions: translations and small rotations about the origin.
                 let pts = [[0.1, 0.2, 0.3], [0.5, -0.1, 0.9]];
                 let mut modes = Vec::new();
@@ -406,11 +345,7 @@ mod tests {
                     w[axis] = 1.0;
                     let mut u = [0.0; 12];
                     for (n, p) in pts.iter().enumerate() {
-                        let v = [
-                            w[1] * p[2] - w[2] * p[1],
-                            w[2] * p[0] - w[0] * p[2],
-                            w[0] * p[1] - w[1] * p[0],
-                        ];
+                        let v = [w[1] * p[2] - w[2] * p[1], w[2] * p[0] - w[0] * p[2], w[0] * p[1] - w[1] * p[0]];
                         for c in 0..3 {
                             u[6 * n + c] = v[c];
                             u[6 * n + 3 + c] = w[c];
@@ -422,41 +357,26 @@ mod tests {
                 for u in &modes {
                     for row in &k {
                         let f: f64 = row.iter().zip(u).map(|(a, b)| a * b).sum();
-                        assert!(
-                            f.abs() < 1e-9 * scale,
-                            "rigid motion strains the element: {f}"
-                        );
+                        assert!(f.abs() < 1e-9 * scale, "rigid motion strains the element: {f}");
                     }
                 }
                 // Translation kinetic energy gives the element mass.
                 let l = (0.4f64 * 0.4 + 0.3 * 0.3 + 0.6 * 0.6).sqrt();
                 let mass = 7850.0 * tube(shear).area * l;
                 for u in modes.iter().take(3) {
-                    let mu: f64 = (0..12)
-                        .map(|i| (0..12).map(|j| u[i] * m[i][j] * u[j]).sum::<f64>())
-                        .sum();
+                    let mu: f64 = (0..12).map(|i| (0..12).map(|j| u[i] * m[i][j] * u[j]).sum::<f64>()).sum();
                     assert!(close(mu, mass, 1e-12), "{mu} vs {mass}");
                 }
                 // Exactly six zero-energy modes: the other six eigenvalues of K are clearly positive.
                 let kmat = faer::Mat::from_fn(12, 12, |i, j| k[i][j]);
-                let mut ev = kmat
-                    .self_adjoint_eigenvalues(faer::Side::Lower)
-                    .unwrap_or_default();
+                let mut ev = kmat.self_adjoint_eigenvalues(faer::Side::Lower).unwrap_or_default();
                 ev.sort_by(f64::total_cmp);
                 assert_eq!(ev.len(), 12);
-                assert!(
-                    ev[5].abs() < 1e-9 * scale && ev[6] > 1e-6 * scale,
-                    "zero-energy count: {ev:?}"
-                );
+                assert!(ev[5].abs() < 1e-9 * scale && ev[6] > 1e-6 * scale, "zero-energy count: {ev:?}");
                 // Positive definite mass.
                 let mmat = faer::Mat::from_fn(12, 12, |i, j| m[i][j]);
-                let mev = mmat
-                    .self_adjoint_eigenvalues(faer::Side::Lower)
-                    .unwrap_or_default();
-                assert!(
-                    mev.iter().all(|&v| v > 0.0),
-                    "mass not positive definite: {mev:?}"
-                );
+                let mev = mmat.self_adjoint_eigenvalues(faer::Side::Lower).unwrap_or_default();
+                assert!(mev.iter().all(|&v| v > 0.0), "mass not positive definite: {mev:?}");
                 // Symmetry.
                 for i in 0..12 {
                     for j in 0..12 {
