@@ -63,22 +63,9 @@ fn cantilever_tube_with_exact_pairs() {
     }
 }
 
-const FRAME: &str = r#"{
-  "materials": {"m": {"youngs_modulus": 7e10, "poisson_ratio": 0.33, "density": 2700}},
-  "sections": {"t": {"circular_tube": {"outer_diameter": 0.03, "wall_thickness": 0.002}},
-               "r": {"rectangle": {"width": 0.02, "height": 0.008}}},
-  "lines": [
-    {"name": "a", "from": [0, 0, 0], "to": [0.6, 0, 0], "elements": 8, "section": "t", "material": "m"},
-    {"name": "b", "from": [0.6, 0, 0], "to": [0.6, 0.4, 0], "elements": 6, "section": "r", "material": "m"},
-    {"name": "c", "from": [0.6, 0.4, 0], "to": [0, 0.4, 0.3], "elements": 8, "section": "t", "material": "m"},
-    {"name": "d", "from": [0, 0.4, 0.3], "to": [0, 0, 0], "elements": 6, "section": "r", "material": "m", "orientation": [1, 0, 0]}
-  ],
-  "point_masses": [{"at": {"line": "b", "at": 0.5}, "mass": 0.3, "inertia": [1e-4, 2e-4, 1e-4]}]
-}"#;
-
 #[test]
 fn free_free_frame_with_six_rigid_modes() {
-    let s = structure(FRAME);
+    let s = structure(FREE_FRAME);
     let sys = system(&s);
     let sp = solve(&sys, ModeRequest::Lowest(20), Method::Lanczos);
     let de = solve(&sys, ModeRequest::Lowest(20), Method::Dense);
@@ -91,7 +78,7 @@ fn frame_on_springs_lumped_mass() {
     // Rotational ground springs of 10 N·m/rad instead of 1e4 give a 0.9 Hz rocking mode whose
     // relative accuracy is limited by round-off to about ε·λ_max/λ ≈ 1e-9 in both routes (residual
     // ~1e-8 in both); this model keeps the comparison well conditioned.
-    let json = FRAME.replace(
+    let json = FREE_FRAME.replace(
         r#""point_masses""#,
         r#""mass_matrix": "lumped",
   "springs": [{"at": {"node": 1}, "stiffness": {"ux": 1e5, "uy": 1e5, "uz": 2e5, "rx": 1e4, "ry": 1e4, "rz": 1e4}},

@@ -29,7 +29,7 @@ pub use assembly::{AssemblyOptions, System, assemble};
 pub use dofs::{DofMap, DofOwner};
 pub use eigen::{
     EigenParams, Method, ModalSolution, ModeRequest, SolveStats, SturmCheck, check_zero_energy, confirm_zero_energy,
-    participation, solve_modes,
+    count_modes_below, participation, solve_modes,
 };
 pub use error::SolverError;
 pub use matrices::{system_from_matrix_market, write_matrix_market};

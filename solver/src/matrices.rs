@@ -40,13 +40,13 @@ fn symmetric_text(a: &SparseColMat<usize, f64>, path: &Path) -> Result<Vec<u8>, 
     let csc = CscMatrix::from(&coo);
     let mut bytes = Vec::new();
     nalgebra_sparse::io::save_to_matrix_market(&mut bytes, &csc).map_err(|e| file_error(path, e.to_string()))?;
-    // The banner is the first line; its last word is the storage scheme.
+    // The banner is the first line; the writer spells it in lower case and says `general`.
     let end = bytes.iter().position(|&b| b == b'\n').unwrap_or(bytes.len());
-    let banner = String::from_utf8_lossy(&bytes[..end]).into_owned();
-    let Some(general) = banner.strip_suffix("general") else {
+    let banner = String::from_utf8_lossy(&bytes[..end]).to_ascii_lowercase();
+    if banner.trim() != "%%matrixmarket matrix coordinate real general" {
         return Err(file_error(path, format!("unexpected banner from the writer: {banner}")));
-    };
-    let mut out = format!("{general}symmetric").into_bytes();
+    }
+    let mut out = b"%%MatrixMarket matrix coordinate real symmetric".to_vec();
     out.extend_from_slice(&bytes[end..]);
     Ok(out)
 }

@@ -50,3 +50,17 @@ pub fn beam_model(section: &str, elements: usize, length: f64, supports: &str, m
 
 /// Steel of the reference sheet's worked examples.
 pub const STEEL: &str = r#"{"youngs_modulus": 2.1e11, "poisson_ratio": 0.3, "density": 7850}"#;
+
+/// A free-free frame of four tube and bar runs with a point mass (six rigid-body modes).
+pub const FREE_FRAME: &str = r#"{
+  "materials": {"m": {"youngs_modulus": 7e10, "poisson_ratio": 0.33, "density": 2700}},
+  "sections": {"t": {"circular_tube": {"outer_diameter": 0.03, "wall_thickness": 0.002}},
+               "r": {"rectangle": {"width": 0.02, "height": 0.008}}},
+  "lines": [
+    {"name": "a", "from": [0, 0, 0], "to": [0.6, 0, 0], "elements": 8, "section": "t", "material": "m"},
+    {"name": "b", "from": [0.6, 0, 0], "to": [0.6, 0.4, 0], "elements": 6, "section": "r", "material": "m"},
+    {"name": "c", "from": [0.6, 0.4, 0], "to": [0, 0.4, 0.3], "elements": 8, "section": "t", "material": "m"},
+    {"name": "d", "from": [0, 0.4, 0.3], "to": [0, 0, 0], "elements": 6, "section": "r", "material": "m", "orientation": [1, 0, 0]}
+  ],
+  "point_masses": [{"at": {"line": "b", "at": 0.5}, "mass": 0.3, "inertia": [1e-4, 2e-4, 1e-4]}]
+}"#;

@@ -22,13 +22,15 @@
 //! Ritz values θ are accurate to about ε θ_max, so λ = σ + 1/θ keeps its relative accuracy even when K
 //! is very ill-conditioned (fine meshes), unlike a Rayleigh quotient φᵀKφ.
 
-use faer::{Mat, MatMut, MatRef, Side};
+use faer::{Mat, MatMut, MatRef};
 use rand::{RngExt, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use crate::assembly::System;
 use crate::error::SolverError;
 use crate::factor::Factor;
+
+use super::symmetric::symmetric_eigen;
 
 /// The shift-invert operator of one shift.
 pub(crate) struct Operator<'a> {
@@ -243,11 +245,9 @@ struct Ritz {
 
 fn rayleigh_ritz(t: MatRef<'_, f64>, b: &Mat<f64>, width: usize, select: Select) -> Ritz {
     let m = t.nrows();
-    let Ok(evd) = t.self_adjoint_eigen(Side::Lower) else {
+    let Some((vals, u)) = symmetric_eigen(t) else {
         return Ritz { theta: vec![], s: Mat::zeros(m, 0), residual: vec![] };
     };
-    let vals = evd.S().column_vector();
-    let u = evd.U();
     let mut order: Vec<usize> = (0..m).collect();
     match select {
         Select::Largest => order.sort_by(|&a, &c| vals[c].total_cmp(&vals[a])),

@@ -14,6 +14,7 @@
 mod dense;
 mod lanczos;
 mod post;
+mod symmetric;
 
 use faer::{Mat, MatRef, Side};
 use serde::Serialize;
@@ -24,6 +25,7 @@ use crate::assembly::System;
 use crate::error::SolverError;
 use crate::factor::Factor;
 use lanczos::{Operator, RunParams, Select};
+use symmetric::symmetric_eigen;
 
 /// Which modes to compute.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -244,6 +246,23 @@ pub(crate) fn sturm_count(system: &System, lambda: f64, stats: &mut SolveStats) 
     })
 }
 
+/// Number of modes of `system` with frequency below `frequency_hz`, by the Sturm sequence: the
+/// negative pivots of an LDLᵀ of K − (2π f)² M (Sylvester's law of inertia). A frequency that falls
+/// on an eigenvalue is moved up by a relative 1e-9 or so; the count then includes that mode.
+///
+/// # Errors
+/// [`SolverError::Request`] for a negative or non-finite frequency; [`SolverError::Factorization`]
+/// when no usable factorization exists near it.
+pub fn count_modes_below(system: &System, frequency_hz: f64) -> Result<usize, SolverError> {
+    if !(frequency_hz.is_finite() && frequency_hz >= 0.0) {
+        return Err(SolverError::Request(format!("{frequency_hz} Hz is not a frequency; give a value >= 0")));
+    }
+    if frequency_hz == 0.0 {
+        return Ok(0);
+    }
+    Ok(sturm_count(system, hz_to_lambda(frequency_hz), &mut SolveStats::default())?.0)
+}
+
 /// Computes the requested modes of `system`.
 ///
 /// # Errors
@@ -384,6 +403,14 @@ impl Locked {
         self.lambda.extend_from_slice(lambda);
     }
 
+    /// Removes and returns the pairs from index `at` on.
+    fn split_off(&mut self, at: usize) -> Locked {
+        let m = self.y.ncols();
+        let tail = Locked { y: self.y.subcols(at, m - at).to_owned(), lambda: self.lambda.split_off(at) };
+        self.y = self.y.subcols(0, at).to_owned();
+        tail
+    }
+
     /// Eigenvalues in ascending order, with the permutation that sorts them.
     fn sorted(&self) -> (Vec<f64>, Vec<usize>) {
         let mut order: Vec<usize> = (0..self.lambda.len()).collect();
@@ -423,12 +450,12 @@ fn shift_invert_ritz(
     let mut c = c.transpose().to_owned();
     faer::linalg::triangular_solve::solve_lower_triangular_in_place(l.as_ref(), c.as_mut(), faer::Par::Seq);
     let c = Mat::from_fn(k, k, |i, j| 0.5 * (c[(i, j)] + c[(j, i)]));
-    let evd = c.self_adjoint_eigen(Side::Lower).map_err(|e| SolverError::NoConvergence(format!("{e:?}")))?;
-    let mut s = evd.U().to_owned();
+    let (mu, mut s) = symmetric_eigen(c.as_ref())
+        .ok_or_else(|| SolverError::NoConvergence("the projected eigenproblem failed".into()))?;
     faer::linalg::triangular_solve::solve_upper_triangular_in_place(l.transpose(), s.as_mut(), faer::Par::Seq);
     // Largest θ first is lowest λ first.
     let order: Vec<usize> = (0..k).rev().collect();
-    let lambda = order.iter().map(|&i| sigma + 1.0 / evd.S().column_vector()[i]).collect();
+    let lambda = order.iter().map(|&i| sigma + 1.0 / mu[i]).collect();
     let s = Mat::from_fn(k, k, |r, c| s[(r, order[c])]);
     Ok((lambda, x * s))
 }
@@ -597,15 +624,10 @@ fn solve_lanczos(system: &System, request: Plain, params: &EigenParams) -> Resul
     let sturm = match request {
         Plain::Band { high_hz, .. } => {
             let (cnt, shift) = sturm_count(system, hz_to_lambda(high_hz), &mut stats)?;
-            fill(&op, sigma, Select::Largest, [f64::NEG_INFINITY, shift], cnt, &mut locked, params, &mut stats)?;
-            let found = locked.count_in(f64::NEG_INFINITY, shift);
-            SturmCheck {
-                shift_hz: lambda_to_hz(shift),
-                count_expected: cnt,
-                count_found: found,
-                passed: found == cnt,
-                lower_shift_hz: None,
-            }
+            let window = [f64::NEG_INFINITY, widen(shift, 1.0)];
+            fill(&op, sigma, Select::Largest, window, cnt, &mut locked, params, &mut stats)?;
+            refine(&op, sigma, &mut locked, &mut stats)?;
+            settled_check(system, &locked, None, (shift, cnt), &mut stats)?
         }
         Plain::Lowest(c) => {
             let mut theta = fill(&op, sigma, Select::Largest, everything, c, &mut locked, params, &mut stats)?;
@@ -644,7 +666,9 @@ fn solve_lanczos(system: &System, request: Plain, params: &EigenParams) -> Resul
             }
         }
     };
-    refine(&op, &mut locked, &mut stats)?;
+    if let Plain::Lowest(_) = request {
+        refine(&op, sigma, &mut locked, &mut stats)?;
+    }
     stats.solve_seconds += op.solve_seconds.get();
     let mut sol = finish_locked(locked, sturm, sigma, stats, scale);
     match request {
@@ -686,49 +710,125 @@ fn solve_slices(
     let mut locked = Locked::new(n);
     for w in edges.windows(2) {
         let ((a, ca), (b, cb)) = (w[0], w[1]);
-        let expected = cb.saturating_sub(ca);
-        if expected == 0 {
+        if cb <= ca {
             continue;
         }
         let (factor, sigma) = interior_factor(system, 0.5 * (a + b), &mut stats)?;
         let op = Operator::new(system, &factor);
-        fill(&op, sigma, Select::LargestMagnitude, [a, b], expected, &mut locked, params, &mut stats)?;
+        let before = locked.y.ncols();
+        // Counted from the band's lower edge, so that a mode computed a hair across a cut counts
+        // for whichever slice locked it (each run is orthogonal to the modes already locked).
+        let window = [widen(bounds[0], -1.0), widen(b, 1.0)];
+        fill(&op, sigma, Select::LargestMagnitude, window, cb - counts[0], &mut locked, params, &mut stats)?;
+        // Refine this slice's vectors with its own operator.
+        let mut slice = locked.split_off(before);
+        refine(&op, sigma, &mut slice, &mut stats)?;
+        locked.push(slice.y.as_ref(), &slice.lambda);
         stats.solve_seconds += op.solve_seconds.get();
     }
-    let found = locked.count_in(bounds[0], bounds[1]);
-    let sturm = SturmCheck {
-        shift_hz: lambda_to_hz(bounds[1]),
-        count_expected: in_band,
-        count_found: found,
-        passed: found == in_band,
-        lower_shift_hz: Some(lambda_to_hz(bounds[0])),
-    };
+    let sturm = settled_check(system, &locked, Some((bounds[0], counts[0])), (bounds[1], counts[1]), &mut stats)?;
     Ok(finish_locked(locked, sturm, bounds[0], stats, scale))
+}
+
+/// Relative distance from a Sturm shift within which a computed eigenvalue's side of the shift is
+/// not certain (the shift's own count and the computed value may disagree about it); locking
+/// windows are widened by as much, so such a mode is kept.
+const EDGE_AMBIGUITY: f64 = 1e-9;
+
+/// Relative step by which an ambiguous Sturm shift is moved.
+const EDGE_STEP: f64 = 1e-7;
+
+/// `x` moved by the relative [`EDGE_AMBIGUITY`] in the direction of `sign`.
+fn widen(x: f64, sign: f64) -> f64 {
+    x + sign * EDGE_AMBIGUITY * x.abs()
+}
+
+/// The Sturm check of a band: the modes computed in [lower, upper) against the difference of the
+/// inertia counts at the two shifts (`lower` None: from −∞). A shift that a computed eigenvalue
+/// lies within [`EDGE_AMBIGUITY`] of is moved by [`EDGE_STEP`] (outward first, then inward) and
+/// counted again, and the first consistent pair of shifts is reported.
+fn settled_check(
+    system: &System,
+    locked: &Locked,
+    lower: Option<(f64, usize)>,
+    upper: (f64, usize),
+    stats: &mut SolveStats,
+) -> Result<SturmCheck, SolverError> {
+    let ambiguous = |s: f64| locked.lambda.iter().any(|&l| (l - s).abs() <= EDGE_AMBIGUITY * s.abs());
+    let candidates = |s: f64, outward: f64| {
+        if ambiguous(s) { vec![s + outward * EDGE_STEP * s.abs(), s - outward * EDGE_STEP * s.abs()] } else { vec![s] }
+    };
+    let count = |s: f64, given: (f64, usize), stats: &mut SolveStats| -> Result<(usize, f64), SolverError> {
+        if s == given.0 { Ok((given.1, s)) } else { sturm_count(system, s, stats) }
+    };
+    let lows = match lower {
+        Some(l) => candidates(l.0, -1.0).into_iter().map(Some).collect(),
+        None => vec![None],
+    };
+    let mut first = None;
+    for lo in lows {
+        let (c_lo, s_lo) = match (lo, lower) {
+            (Some(s), Some(given)) => count(s, given, stats)?,
+            _ => (0, f64::NEG_INFINITY),
+        };
+        for hi in candidates(upper.0, 1.0) {
+            let (c_hi, s_hi) = count(hi, upper, stats)?;
+            let expected = c_hi.saturating_sub(c_lo);
+            let found = locked.count_in(s_lo, s_hi);
+            let check = SturmCheck {
+                shift_hz: lambda_to_hz(s_hi),
+                count_expected: expected,
+                count_found: found,
+                passed: found == expected,
+                lower_shift_hz: lower.map(|_| lambda_to_hz(s_lo)),
+            };
+            if check.passed {
+                return Ok(check);
+            }
+            first.get_or_insert(check);
+        }
+    }
+    first.ok_or_else(|| SolverError::NoConvergence("no Sturm shift to check the band".into()))
 }
 
 /// One step of inverse iteration on the converged set, then Rayleigh–Ritz on its span: Z = Op Y
 /// damps every error component along an eigenvector j by θ_j/θ_i, which is tiny for the high
 /// modes whose components dominate the residual ‖Kφ − λMφ‖ (K amplifies them by up to λ_max/λ).
-/// The Rayleigh–Ritz with (ZᵀKZ, ZᵀMZ) gives M-orthonormal vectors (and resolves the mixing inside
-/// clusters); the eigenvalues keep their shift-invert values, which are accurate even when K is
-/// very ill-conditioned. One block solve with every locked vector.
-fn refine(op: &Operator<'_>, locked: &mut Locked, stats: &mut SolveStats) -> Result<(), SolverError> {
-    let (lambda, order) = locked.sorted();
-    let k = lambda.len();
+/// The Rayleigh–Ritz on span(Z) needs no product with K: (K − σM) Z = M Y gives
+/// Zᵀ K Z = Zᵀ M Y + σ Zᵀ M Z, so the reduced pencil (Zᵀ M Y + σ ZᵀMZ, ZᵀMZ) is formed from
+/// well-conditioned products only (a product with an ill-conditioned K would carry an absolute error
+/// ε‖K‖ that ruins the low modes of a wide set). It gives M-orthonormal vectors, resolves the mixing
+/// inside clusters, and eigenvalues accurate relative to themselves. One block solve with every
+/// locked vector.
+fn refine(op: &Operator<'_>, sigma: f64, locked: &mut Locked, stats: &mut SolveStats) -> Result<(), SolverError> {
+    let (_, order) = locked.sorted();
+    let k = order.len();
     if k == 0 {
         return Ok(());
     }
     let n = locked.y.nrows();
     let y = Mat::from_fn(n, k, |r, c| locked.y[(r, order[c])]);
     let my = op.system.mul_m(y.as_ref());
-    let z = op.apply_to_mx(my.as_ref());
+    let mut z = op.apply_to_mx(my.as_ref());
     stats.block_solves += 1;
-    let kz = op.system.mul_k(z.as_ref());
-    let mz = op.system.mul_m(z.as_ref());
-    let kr = z.transpose() * kz.as_ref();
+    let mut mz = op.system.mul_m(z.as_ref());
+    // Columns of Z scale like 1/|λ − σ|: normalise them, or ZᵀMZ would be as ill-conditioned as the
+    // spread of the set squared (and its Cholesky factor would lose the high modes' digits).
+    let mut my = my;
+    for c in 0..k {
+        let norm = (0..n).map(|i| z[(i, c)] * mz[(i, c)]).sum::<f64>().max(0.0).sqrt();
+        if norm > 0.0 {
+            for i in 0..n {
+                z[(i, c)] /= norm;
+                mz[(i, c)] /= norm;
+                my[(i, c)] /= norm;
+            }
+        }
+    }
+    let zmy = z.transpose() * my.as_ref();
     let mr = z.transpose() * mz.as_ref();
-    drop((kz, mz));
-    let kr = Mat::from_fn(k, k, |i, j| 0.5 * (kr[(i, j)] + kr[(j, i)]));
+    drop((mz, my));
+    let kr = Mat::from_fn(k, k, |i, j| 0.5 * (zmy[(i, j)] + zmy[(j, i)]) + sigma * 0.5 * (mr[(i, j)] + mr[(j, i)]));
     let mr = Mat::from_fn(k, k, |i, j| 0.5 * (mr[(i, j)] + mr[(j, i)]));
     let Ok(llt) = mr.llt(Side::Lower) else {
         // Numerically dependent refined vectors: keep the Lanczos vectors.
@@ -740,12 +840,10 @@ fn refine(op: &Operator<'_>, locked: &mut Locked, stats: &mut SolveStats) -> Res
     let mut c = c.transpose().to_owned();
     faer::linalg::triangular_solve::solve_lower_triangular_in_place(l.as_ref(), c.as_mut(), faer::Par::Seq);
     let c = Mat::from_fn(k, k, |i, j| 0.5 * (c[(i, j)] + c[(j, i)]));
-    let Ok(evd) = c.self_adjoint_eigen(Side::Lower) else { return Ok(()) };
-    let mut s = evd.U().to_owned();
+    let Some((vals, mut s)) = symmetric_eigen(c.as_ref()) else { return Ok(()) };
     faer::linalg::triangular_solve::solve_upper_triangular_in_place(l.transpose(), s.as_mut(), faer::Par::Seq);
-    // Ascending Rayleigh quotients pair with the ascending shift-invert eigenvalues.
     locked.y = &z * &s;
-    locked.lambda = lambda;
+    locked.lambda = vals;
     Ok(())
 }
 
