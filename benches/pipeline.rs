@@ -17,8 +17,12 @@
 //!    output files (which the program also does) is not timed. Target: the whole design run in
 //!    under 1 s.
 //!
+//! c. A thin steel tube as shells (mid radius 0.25 m, wall 2 mm, 2 m long, 128 × 130 quads,
+//!    16,768 nodes, ~100k free DOFs), free-free: validation, shell assembly (elements per second on
+//!    all rayon threads and on one), the zero-energy check and the lowest 20 modes.
+//!
 //! Each measurement is repeated N times (`ANTINODE_BENCH_REPS`, default 5); the tables give the
-//! median and the minimum. `ANTINODE_BENCH_ONLY=frame` or `shaft` runs one part. Threads follow
+//! median and the minimum. `ANTINODE_BENCH_ONLY=frame`, `shaft` or `tube` runs one part. Threads follow
 //! `RAYON_NUM_THREADS` as in the program.
 //!
 //! Run from the workspace root (whose default member is the CLI, hence `-p`):
@@ -30,6 +34,8 @@ use std::time::{Duration, Instant};
 
 use antinode::mesh::{Structure, parse_model, validate};
 use antinode::placement::{StudyModel, design};
+use antinode::solver::element::beam::MassKind;
+use antinode::solver::element::shell_quad::quad_matrices;
 use antinode::solver::{
     AssemblyOptions, Coordinate, EigenParams, ModalModel, ModalSolution, ModeRequest, System, assemble,
     check_zero_energy, solve_modes,
@@ -238,6 +244,107 @@ fn frame(n: usize) -> Res<()> {
             vec!["check_zero_energy".into(), ms(t_zero.median), ms(t_zero.min), "".into()],
             vec![format!("solve_modes, lowest {FRAME_MODES}"), ms(t_modes.median), ms(t_modes.min), "".into()],
         ],
+    );
+    print_solution(&sol);
+    Ok(())
+}
+
+/// Elements around and along the shell tube of part c.
+const TUBE_CELLS: [usize; 2] = [128, 130];
+
+fn tube_json() -> String {
+    let (r, l, t) = (0.25, 2.0, 0.002);
+    let [nc, nl] = TUBE_CELLS;
+    let id = |k: usize, j: usize| j * nc + (k % nc) + 1;
+    let mut nodes = Vec::with_capacity(nc * (nl + 1));
+    for j in 0..=nl {
+        for k in 0..nc {
+            let th = 2.0 * std::f64::consts::PI * k as f64 / nc as f64;
+            nodes.push(json!({"id": id(k, j), "xyz": [l * j as f64 / nl as f64, r * th.cos(), r * th.sin()]}));
+        }
+    }
+    let mut shells = Vec::with_capacity(nc * nl);
+    for j in 0..nl {
+        for k in 0..nc {
+            let quad = [id(k, j), id(k + 1, j), id(k + 1, j + 1), id(k, j + 1)];
+            shells.push(json!({"id": shells.len() + 1, "nodes": quad, "thickness": t, "material": "steel"}));
+        }
+    }
+    json!({"materials": steel(), "nodes": nodes, "shells": shells}).to_string()
+}
+
+fn tube(n: usize) -> Res<()> {
+    let text = tube_json();
+    let model = parse_model(&text, Path::new("tube (built in code)"))?;
+    let (t_validate, s) = repeat(n, || Ok(validate(&model)?))?;
+    let (t_assemble, system) = repeat(n, || Ok(assemble(&s, AssemblyOptions::default())?))?;
+    let one = rayon::ThreadPoolBuilder::new().num_threads(1).build()?;
+    let (t_assemble_1, _) =
+        one.install(|| repeat(n, || Ok(assemble(&s, AssemblyOptions::default())?)).map_err(|e| e.to_string()))?;
+    // The element kernels alone (no global assembly), as the assembler calls them.
+    let kernels = || -> Res<f64> {
+        use rayon::prelude::*;
+        let sum: Result<f64, String> = s
+            .shells
+            .par_iter()
+            .map(|e| {
+                let x = |i: usize| s.nodes[e.nodes[i]].xyz;
+                quad_matrices(&[x(0), x(1), x(2), x(3)], e.thickness, &e.material, MassKind::Consistent)
+                    .map(|m| m.stiffness[0] + m.mass[0])
+                    .map_err(|d| format!("{}: {d:?}", e.label))
+            })
+            .sum();
+        Ok(sum?)
+    };
+    let (t_kernels, _) = repeat(n, kernels)?;
+    let (t_kernels_1, _) = one.install(|| repeat(n, kernels).map_err(|e| e.to_string()))?;
+    let (t_zero, zero) = repeat(n, || Ok(check_zero_energy(&s, &system)?))?;
+    let (t_modes, sol) =
+        repeat(n, || Ok(solve_modes(&system, ModeRequest::Lowest(FRAME_MODES), &EigenParams::default())?))?;
+    let elements = s.shells.len() as f64;
+    println!(
+        "## c. Shell tube: {} quadrilateral shells, {} nodes, {} free DOFs, {} stored entries of K, \
+         {} zero-energy modes, total mass {:.2} kg ({} runs each)\n",
+        s.shells.len(),
+        s.nodes.len(),
+        system.n_dofs(),
+        system.n_stored(),
+        zero,
+        s.total_mass(),
+        n
+    );
+    let rate = |t: Duration| format!("{:.0}", elements / t.as_secs_f64());
+    print_table(
+        &["stage", "median [ms]", "min [ms]", "rate (median) [elements/s]"],
+        &[
+            vec!["validate".into(), ms(t_validate.median), ms(t_validate.min), rate(t_validate.median)],
+            vec![
+                "shell element matrices only, all threads".into(),
+                ms(t_kernels.median),
+                ms(t_kernels.min),
+                rate(t_kernels.median),
+            ],
+            vec![
+                "shell element matrices only, 1 thread".into(),
+                ms(t_kernels_1.median),
+                ms(t_kernels_1.min),
+                rate(t_kernels_1.median),
+            ],
+            vec![
+                "assemble (K, M, symbolic factorization), all threads".into(),
+                ms(t_assemble.median),
+                ms(t_assemble.min),
+                rate(t_assemble.median),
+            ],
+            vec!["assemble, 1 thread".into(), ms(t_assemble_1.median), ms(t_assemble_1.min), rate(t_assemble_1.median)],
+            vec!["check_zero_energy".into(), ms(t_zero.median), ms(t_zero.min), "".into()],
+            vec![format!("solve_modes, lowest {FRAME_MODES}"), ms(t_modes.median), ms(t_modes.min), "".into()],
+        ],
+    );
+    println!(
+        "time on all threads / on one thread (medians): element matrices {:.2}, whole assembly {:.2}\n",
+        t_kernels.median.as_secs_f64() / t_kernels_1.median.as_secs_f64(),
+        t_assemble.median.as_secs_f64() / t_assemble_1.median.as_secs_f64()
     );
     print_solution(&sol);
     Ok(())
@@ -553,6 +660,9 @@ fn main() -> Res<()> {
     }
     if only.is_empty() || only == "shaft" {
         shaft(n)?;
+    }
+    if only.is_empty() || only == "tube" {
+        tube(n)?;
     }
     Ok(())
 }

@@ -14,7 +14,13 @@ struct CheckReport {
     title: String,
     nodes: usize,
     beams: usize,
+    shells: usize,
+    shell_quality: Option<ShellQuality>,
     lines: usize,
+    tubes: Vec<String>,
+    panels: Vec<String>,
+    /// Region name → number of nodes it selects.
+    regions: std::collections::BTreeMap<String, usize>,
     springs: usize,
     point_masses: usize,
     absorbers: usize,
@@ -27,6 +33,40 @@ struct CheckReport {
     warnings: Vec<String>,
 }
 
+/// Worst shape measures over the shells (definitions in the model-format docs).
+#[derive(Serialize)]
+struct ShellQuality {
+    quadrilaterals: usize,
+    triangles: usize,
+    max_aspect_ratio: f64,
+    max_warp_deg: f64,
+    max_skew_deg: f64,
+    min_jacobian_ratio: f64,
+    thickness_range_m: [f64; 2],
+}
+
+fn shell_quality(s: &antinode_mesh::Structure) -> Option<ShellQuality> {
+    if s.shells.is_empty() {
+        return None;
+    }
+    let max = |f: fn(&antinode_mesh::ShellElement) -> f64| s.shells.iter().map(f).fold(f64::NEG_INFINITY, f64::max);
+    let min = |f: fn(&antinode_mesh::ShellElement) -> f64| s.shells.iter().map(f).fold(f64::INFINITY, f64::min);
+    let quads = s.shells.iter().filter(|e| e.nodes.len() == 4).count();
+    Some(ShellQuality {
+        quadrilaterals: quads,
+        triangles: s.shells.len() - quads,
+        max_aspect_ratio: max(|e| e.shape.aspect_ratio),
+        max_warp_deg: max(|e| e.shape.warp_deg),
+        max_skew_deg: max(|e| e.shape.skew_deg),
+        min_jacobian_ratio: min(|e| e.shape.jacobian_ratio),
+        thickness_range_m: [min(|e| e.thickness), max(|e| e.thickness)],
+    })
+}
+
+fn list(names: &[String]) -> String {
+    if names.is_empty() { "-".into() } else { names.join(", ") }
+}
+
 pub fn run(path: &Path, json: bool) -> Result<()> {
     let l = load(path)?;
     let (system, zero) = assemble_checked(&l, false)?;
@@ -36,7 +76,12 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         title: s.title.clone(),
         nodes: s.nodes.len(),
         beams: s.beams.len(),
+        shells: s.shells.len(),
+        shell_quality: shell_quality(s),
         lines: s.lines.len(),
+        tubes: s.tubes.iter().map(|t| t.name.clone()).collect(),
+        panels: s.panels.iter().map(|p| p.name.clone()).collect(),
+        regions: s.regions.iter().map(|(k, v)| (k.clone(), v.len())).collect(),
         springs: s.springs.len(),
         point_masses: s.point_masses.len(),
         absorbers: s.absorbers.len(),
@@ -53,10 +98,17 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
     }
     println!("{}: {}", report.model, if report.title.is_empty() { "(no title)" } else { &report.title });
     let c = report.centre_of_mass;
-    let rows = vec![
+    let mut rows = vec![
         vec!["nodes".into(), report.nodes.to_string()],
         vec!["beam elements".into(), report.beams.to_string()],
+        vec!["shell elements".into(), report.shells.to_string()],
         vec!["lines".into(), report.lines.to_string()],
+        vec!["tubes".into(), list(&report.tubes)],
+        vec!["panels".into(), list(&report.panels)],
+        vec![
+            "regions (nodes)".into(),
+            list(&report.regions.iter().map(|(k, v)| format!("{k} ({v})")).collect::<Vec<_>>()),
+        ],
         vec!["springs".into(), report.springs.to_string()],
         vec!["point masses".into(), report.point_masses.to_string()],
         vec!["absorbers".into(), format!("{} ({:.4} kg)", report.absorbers, report.absorber_mass_kg)],
@@ -66,6 +118,19 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         vec!["centre of mass".into(), format!("({:.6}, {:.6}, {:.6}) m", c.x, c.y, c.z)],
         vec!["zero-energy modes".into(), report.zero_energy_modes.to_string()],
     ];
+    if let Some(q) = &report.shell_quality {
+        rows.extend([
+            vec!["shells: quads / triangles".into(), format!("{} / {}", q.quadrilaterals, q.triangles)],
+            vec![
+                "shells: thickness".into(),
+                format!("{:.4e} to {:.4e} m", q.thickness_range_m[0], q.thickness_range_m[1]),
+            ],
+            vec!["shells: worst aspect ratio".into(), format!("{:.2}", q.max_aspect_ratio)],
+            vec!["shells: worst warp".into(), format!("{:.2}°", q.max_warp_deg)],
+            vec!["shells: worst skew".into(), format!("{:.2}°", q.max_skew_deg)],
+            vec!["shells: worst Jacobian ratio".into(), format!("{:.3}", q.min_jacobian_ratio)],
+        ]);
+    }
     println!("{}", table(&["item", "value"], rows));
     if report.warnings.is_empty() {
         println!("no warnings");

@@ -2,6 +2,7 @@
 
 mod check;
 mod design;
+mod init;
 mod modes;
 mod output;
 mod pipeline;
@@ -40,6 +41,19 @@ enum Command {
     ExportMatrices(ExportArgs),
     /// Print the JSON Schema of the model file.
     Schema,
+    /// Write a complete starter model to edit (an invented scenario with a study and a small
+    /// absorber design request): a shell tube, a panel or a beam. Never overwrites a file.
+    Init(InitArgs),
+}
+
+#[derive(Args)]
+struct InitArgs {
+    /// Which starter model.
+    #[arg(value_enum)]
+    kind: init::Kind,
+    /// File to write (default: tube.json, panel.json or beam.json in the working folder).
+    #[arg(long)]
+    out: Option<PathBuf>,
 }
 
 #[derive(Args)]
@@ -146,6 +160,7 @@ fn main() -> ExitCode {
         Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
+        Command::Init(a) => init::run(a.kind, a.out),
         Command::Schema => {
             print!("{}", antinode_mesh::model_schema_json());
             Ok(())

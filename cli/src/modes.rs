@@ -63,8 +63,10 @@ struct Solver {
     orthogonality_error: f64,
     max_relative_residual: f64,
     stats: SolveStats,
-    /// Wall time of reading or assembling the matrices, in s.
+    /// Wall time of reading or assembling the matrices, symbolic analysis included, in s.
     setup_seconds: f64,
+    /// Part of `setup_seconds` spent in the symbolic analysis (fill-reducing orderings), in s.
+    analysis_seconds: f64,
     /// Wall time of the eigen solution (all factorizations included), in s.
     solve_seconds: f64,
 }
@@ -218,6 +220,7 @@ pub fn run(o: &Options) -> Result<()> {
             max_relative_residual: sol.residuals.iter().copied().fold(0.0, f64::max),
             stats: sol.stats,
             setup_seconds,
+            analysis_seconds: system.analysis_seconds(),
             solve_seconds,
         },
         files: files.iter().map(|p| p.display().to_string()).collect(),

@@ -722,3 +722,511 @@ fn respond_rejects_study_without_excitation() {
     m["study"].as_object_mut().expect("study").remove("excitation");
     assert_rejected(&pretty(&m), &["respond", "design"], &["study.excitation", "no excitation"]);
 }
+
+/// Runs `antinode modes <args> --out <tmp>/out` and checks a clean rejection: exit code 1, every
+/// `expect` fragment in the message, nothing written.
+fn assert_modes_rejected(args: &[&OsStr], expect: &[&str]) {
+    let tmp = temp();
+    let dir = tmp.path();
+    let out = dir.join("out");
+    let mut all = vec![OsStr::new("modes")];
+    all.extend_from_slice(args);
+    all.extend([OsStr::new("--out"), out.as_os_str()]);
+    let r = antinode(dir, &all);
+    let context = format!("`antinode {all:?}`\n--- exit code {:?}\n--- stderr\n{}", r.code, r.stderr);
+    assert!(!r.stderr.contains("panicked"), "panic: {context}");
+    assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
+    assert!(r.stderr.starts_with("error: "), "the message starts with `error: `: {context}");
+    for e in expect {
+        assert!(r.stderr.contains(e), "the message lacks {e:?}: {context}");
+    }
+    assert!(entries(&out).is_empty(), "files left in the out folder: {context}");
+}
+
+#[test]
+fn modes_rejects_impossible_requests() {
+    let model = example("fan-shaft.json");
+    let m = model.as_os_str();
+    let cases: [(&[&str], &[&str]); 6] = [
+        (&["--count", "0"], &["zero modes requested"]),
+        (&["--max-frequency", "0"], &["[0, 0] Hz is not a band", "low < high"]),
+        (&["--min-frequency", "400", "--max-frequency", "50"], &["[400, 50] Hz is not a band"]),
+        (&["--min-frequency", "5000", "--max-frequency", "5001"], &["no mode lies in the band [5000, 5001] Hz"]),
+        (&["--count", "100000"], &["100000 modes requested", "384 free DOFs"]),
+        (&["--min-frequency", "20"], &["--min-frequency needs --max-frequency"]),
+    ];
+    for (extra, expect) in cases {
+        let mut args = vec![m];
+        args.extend(extra.iter().map(OsStr::new));
+        assert_modes_rejected(&args, expect);
+    }
+}
+
+/// `export-matrices` then `modes --stiffness --mass` reproduces the model's frequencies: the two
+/// routes factor the same matrices (the MatrixMarket text keeps 17 significant digits).
+#[test]
+fn exported_matrices_give_the_same_modes() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = example("fan-shaft.json");
+    let mats = dir.join("mats");
+    antinode(dir, [OsStr::new("export-matrices"), model.as_os_str(), "--out".as_ref(), mats.as_os_str()])
+        .assert_success("export-matrices");
+    assert_files(&mats, &["K.mtx", "M.mtx"]);
+    let count = ["--count".as_ref(), OsStr::new("12"), "--json".as_ref()];
+    let out = dir.join("a");
+    let mut args = vec![OsStr::new("modes"), model.as_os_str(), "--out".as_ref(), out.as_os_str()];
+    args.extend(count);
+    let from_model = antinode(dir, &args);
+    from_model.assert_success("modes on the model");
+    let (k, m) = (mats.join("K.mtx"), mats.join("M.mtx"));
+    let out = dir.join("b");
+    let mut args = vec![
+        OsStr::new("modes"),
+        "--stiffness".as_ref(),
+        k.as_os_str(),
+        "--mass".as_ref(),
+        m.as_os_str(),
+        "--out".as_ref(),
+        out.as_os_str(),
+    ];
+    args.extend(count);
+    let from_files = antinode(dir, &args);
+    from_files.assert_success("modes on the matrices");
+    assert_files(&out, &["modes.json", "modes.csv"]);
+    let (a, b) = (from_model.json(), from_files.json());
+    assert_eq!(b["sturm_check"]["passed"].as_bool(), Some(true), "sturm_check: {}", b["sturm_check"]);
+    let (ma, mb) = (a["modes"].as_array().expect("modes[]"), b["modes"].as_array().expect("modes[]"));
+    assert_eq!(ma.len(), 12);
+    assert_eq!(mb.len(), 12);
+    for (i, (x, y)) in ma.iter().zip(mb).enumerate() {
+        let (fx, fy) = (num(&x["frequency_hz"], "frequency_hz"), num(&y["frequency_hz"], "frequency_hz"));
+        // Same matrices, same algorithm: agreement to the solver's accuracy (residual ≤ 1e-8).
+        assert!((fx - fy).abs() <= 1e-9 * fx, "mode {}: {fx} Hz from the model, {fy} Hz from the files", i + 1);
+    }
+}
+
+#[test]
+fn modes_rejects_bad_matrix_files() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let mats = dir.join("mats");
+    antinode(
+        dir,
+        [OsStr::new("export-matrices"), example("fan-shaft.json").as_os_str(), "--out".as_ref(), mats.as_os_str()],
+    )
+    .assert_success("export-matrices");
+    let general = dir.join("general.mtx");
+    std::fs::write(&general, "%%MatrixMarket matrix coordinate real general\n2 2 2\n1 1 1.0\n1 2 3.0\n")
+        .expect("written");
+    let small = dir.join("small.mtx");
+    std::fs::write(&small, "%%MatrixMarket matrix coordinate real symmetric\n3 3 1\n1 1 1.0\n").expect("written");
+    let garbage = dir.join("garbage.mtx");
+    std::fs::write(&garbage, "this is not a matrix\n").expect("written");
+    let (k, m) = (mats.join("K.mtx"), mats.join("M.mtx"));
+    let missing = dir.join("missing.mtx");
+    let cases: [(&Path, &Path, &[&str]); 4] = [
+        (&general, &m, &["general.mtx", "not symmetric"]),
+        (&k, &small, &["small.mtx", "3 × 3", "384 × 384"]),
+        (&garbage, &m, &["garbage.mtx", "MatrixMarket"]),
+        (&missing, &m, &["missing.mtx", "No such file"]),
+    ];
+    for (kk, mm, expect) in cases {
+        assert_modes_rejected(&["--stiffness".as_ref(), kk.as_os_str(), "--mass".as_ref(), mm.as_os_str()], expect);
+    }
+}
+
+#[test]
+fn happy_path_enclosure_panel() {
+    happy_path("enclosure-panel.json", false);
+}
+
+/// The base model with a small shell fin on the stub's top node: a quadrilateral (shell 1) and a
+/// triangle (shell 2). Nodes: [0] 1, [1] 2, [2] 10, [3] 11, [4] 12, [5] 13.
+fn with_shells() -> Value {
+    let mut m = base();
+    let nodes = m["nodes"].as_array_mut().expect("nodes");
+    nodes.extend([
+        json!({"id": 10, "xyz": [0.6, 0, 0.1]}),
+        json!({"id": 11, "xyz": [0.6, 0.1, 0.1]}),
+        json!({"id": 12, "xyz": [0.5, 0.1, 0.1]}),
+        json!({"id": 13, "xyz": [0.7, 0.05, 0.1]}),
+    ]);
+    m["shells"] = json!([
+        {"id": 1, "nodes": [2, 10, 11, 12], "thickness": 0.002, "material": "al"},
+        {"id": 2, "nodes": [10, 13, 11], "thickness": 0.002, "material": "al"}
+    ]);
+    m
+}
+
+fn assert_shell_edit_rejected(edit: impl FnOnce(&mut Value), expect: &[&str]) {
+    let mut m = with_shells();
+    edit(&mut m);
+    assert_rejected(&pretty(&m), &["check", "design"], expect);
+}
+
+#[test]
+fn shell_model_of_bad_input_tests_is_valid_and_checked() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&with_shells())).expect("model written");
+    let r = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
+    r.assert_success("check of the shell model");
+    let j = r.json();
+    assert_eq!(j["shells"].as_u64(), Some(2));
+    assert_eq!(j["shell_quality"]["quadrilaterals"].as_u64(), Some(1));
+    assert_eq!(j["shell_quality"]["triangles"].as_u64(), Some(1));
+    assert_eq!(j["zero_energy_modes"].as_u64(), Some(0), "the fin is held through the stub");
+}
+
+#[test]
+fn rejects_non_positive_shell_thickness() {
+    for t in [0.0, -0.002] {
+        assert_shell_edit_rejected(
+            |m| m["shells"][0]["thickness"] = json!(t),
+            &["shells[0] (shell 1)", "thickness", "positive"],
+        );
+    }
+}
+
+#[test]
+fn rejects_shell_without_material() {
+    assert_shell_edit_rejected(
+        |m| m["shells"][1]["material"] = json!("steel"),
+        &["shells[1] (shell 2).material", "material \"steel\" is not defined"],
+    );
+}
+
+#[test]
+fn rejects_shell_with_wrong_node_count_or_repeated_node() {
+    assert_shell_edit_rejected(
+        |m| m["shells"][0]["nodes"] = json!([2, 10]),
+        &["shells[0] (shell 1).nodes", "3 (triangle) or 4"],
+    );
+    assert_shell_edit_rejected(
+        |m| m["shells"][0]["nodes"] = json!([2, 10, 10, 12]),
+        &["shells[0] (shell 1).nodes", "node 10 appears twice"],
+    );
+    assert_shell_edit_rejected(
+        |m| m["shells"][1]["nodes"] = json!([10, 13, 99]),
+        &["shells[1] (shell 2).nodes[2]", "node 99 does not exist"],
+    );
+}
+
+#[test]
+fn rejects_degenerate_and_inverted_shells() {
+    // Coincident corners: node 12 moved onto node 2.
+    assert_shell_edit_rejected(|m| m["nodes"][4]["xyz"] = json!([0.5, 0, 0.1]), &["shells[0] (shell 1)", "same point"]);
+    // Collinear quadrilateral: every corner on the line y = 0, z = 0.1.
+    assert_shell_edit_rejected(
+        |m| {
+            m["nodes"][2]["xyz"] = json!([0.7, 0, 0.1]);
+            m["nodes"][3]["xyz"] = json!([0.8, 0, 0.1]);
+            m["nodes"][4]["xyz"] = json!([0.9, 0, 0.1]);
+        },
+        &["shells[0] (shell 1)", "on one line"],
+    );
+    // Bow-tie: the node order crosses the element.
+    assert_shell_edit_rejected(
+        |m| m["shells"][0]["nodes"] = json!([2, 10, 12, 11]),
+        &["shells[0] (shell 1)", "inverted"],
+    );
+}
+
+#[test]
+fn warns_about_thick_and_distorted_shells() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let mut m = with_shells();
+    m["shells"][0]["thickness"] = json!(0.2);
+    m["nodes"][4]["xyz"] = json!([0.5, 0.1, 0.13]);
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let r = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
+    r.assert_success("check of a thick, warped shell");
+    let warnings = r.json()["warnings"].to_string();
+    assert!(warnings.contains("thickness / shortest side") && warnings.contains("shell 1"), "{warnings}");
+    assert!(warnings.contains("warp") && warnings.contains("mean plane"), "{warnings}");
+}
+
+// ---------------------------------------------------------------------------------------------
+// Starter models (`init`) and the generators (`tubes`, `panels`, `regions`)
+// ---------------------------------------------------------------------------------------------
+
+/// `init <kind>` in an empty folder writes `<kind>.json` and nothing else; the model passes `check`
+/// (held: no zero-energy mode) and `design --json` (the absorber contract of `design_example`).
+fn init_then_check_and_design(kind: &str) {
+    let tmp = temp();
+    let dir = tmp.path();
+    let r = antinode(dir, ["init", kind]);
+    r.assert_success(&format!("init {kind}"));
+    let file = format!("{kind}.json");
+    assert_files(dir, &[&file]);
+    assert!(r.stdout.contains(&file), "init names the file it wrote: {}", r.stdout);
+    let model = dir.join(&file);
+    let text = std::fs::read_to_string(&model).expect("starter model readable");
+    let m: Value = serde_json::from_str(&text).expect("starter model is JSON");
+    assert!(
+        m["title"].as_str().is_some_and(|t| t.to_lowercase().contains("invented")),
+        "the starter model says its scenario is invented: {}",
+        m["title"]
+    );
+    let check = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
+    check.assert_success(&format!("check of the {kind} starter"));
+    let j = check.json();
+    assert_eq!(j["zero_energy_modes"].as_u64(), Some(0), "the {kind} starter is held");
+    assert_eq!(j["warnings"].as_array().map(Vec::len), Some(0), "no warnings: {}", j["warnings"]);
+    design_example(dir, &model, &dir.join("design-out"));
+}
+
+#[test]
+fn init_tube_writes_a_model_that_checks_and_designs() {
+    init_then_check_and_design("tube");
+}
+
+#[test]
+fn init_panel_writes_a_model_that_checks_and_designs() {
+    init_then_check_and_design("panel");
+}
+
+#[test]
+fn init_beam_writes_a_model_that_checks_and_designs() {
+    init_then_check_and_design("beam");
+}
+
+#[test]
+fn init_writes_to_out_and_refuses_to_overwrite() {
+    let tmp = temp();
+    let dir = tmp.path();
+    antinode(dir, ["init", "panel", "--out", "cover.json"]).assert_success("init panel --out cover.json");
+    assert_files(dir, &["cover.json"]);
+    let written = std::fs::read_to_string(dir.join("cover.json")).expect("written");
+    for (args, file) in
+        [(&["init", "panel", "--out", "cover.json"][..], "cover.json"), (&["init", "tube"][..], "tube.json")]
+    {
+        std::fs::write(dir.join("tube.json"), "keep me").expect("written");
+        let r = antinode(dir, args);
+        assert_eq!(r.code, Some(ERROR_EXIT_CODE), "init over an existing file fails: {}", r.stderr);
+        assert!(
+            r.stderr.starts_with("error: ") && r.stderr.contains(file) && r.stderr.contains("already exists"),
+            "{}",
+            r.stderr
+        );
+        assert!(!r.stderr.contains("panicked"), "{}", r.stderr);
+    }
+    assert_eq!(std::fs::read_to_string(dir.join("cover.json")).expect("readable"), written, "cover.json unchanged");
+    assert_eq!(std::fs::read_to_string(dir.join("tube.json")).expect("readable"), "keep me", "tube.json unchanged");
+    let r = antinode(dir, ["init", "beam", "--out", "missing/beam.json"]);
+    assert_eq!(r.code, Some(ERROR_EXIT_CODE), "{}", r.stderr);
+    assert!(r.stderr.contains("cannot create") && r.stderr.contains("missing/beam.json"), "{}", r.stderr);
+    assert_eq!(entries(dir), set(&["cover.json", "tube.json"]), "nothing else written");
+    let r = antinode(dir, ["init", "bridge"]);
+    assert_eq!(r.code, Some(2), "an unknown kind is a usage error: {}", r.stderr);
+    assert!(r.stderr.contains("tube") && r.stderr.contains("panel") && r.stderr.contains("beam"), "{}", r.stderr);
+}
+
+#[test]
+fn happy_path_gantry_boom() {
+    happy_path("gantry-boom.json", false);
+}
+
+/// A small valid model of the generators: a shell tube on two bearings with regions, and a
+/// separate panel simply supported on two edges; the study uses regions for every place.
+fn generators_base() -> Value {
+    json!({
+        "title": "Invented test model: aluminium shell tube on two bearings beside a cover panel",
+        "materials": {"al": {"youngs_modulus": 7.0e10, "poisson_ratio": 0.33, "density": 2700}},
+        "tubes": [{"name": "shaft", "length": 0.8, "outer_diameter": 0.05, "wall_thickness": 0.002, "material": "al",
+                   "fidelity": "shell", "around": 16, "along": 20,
+                   "ends": {"start": {"bearing": {"ux": 1e7, "uy": 5e6, "uz": 5e6}},
+                            "end": {"bearing": {"uy": 5e6, "uz": 5e6}}}}],
+        "panels": [{"name": "lid", "size": [0.4, 0.3], "thickness": 0.002, "material": "al", "origin": [0, 0.2, 0],
+                    "divisions": [8, 6], "edges": {"x0": "simply_supported", "x1": "simply_supported"}}],
+        "regions": {
+            "top": {"tube": "shaft", "from": 0.1, "to": 0.9, "angle_deg": [90, 90]},
+            "drive": {"tube": "shaft", "from": 0.3, "to": 0.3, "angle_deg": [90, 90]},
+            "lid middle": {"panel": "lid", "point": [0.2, 0.15]}
+        },
+        "study": {
+            "band_hz": [50, 800],
+            "excitation": [{"at": {"region": "drive"}, "direction": "z", "amplitude": 1.0}],
+            "response_points": [{"at": {"region": "drive"}, "direction": "z"},
+                                {"at": {"region": "lid middle"}, "direction": "z"}],
+            "absorber_design": {"count": 1, "mass_each": 0.01, "candidates": [{"region": "top"}], "directions": ["z"]}
+        }
+    })
+}
+
+fn assert_generator_edit_rejected(edit: impl FnOnce(&mut Value), expect: &[&str]) {
+    let mut m = generators_base();
+    edit(&mut m);
+    assert_rejected(&pretty(&m), &["check", "design"], expect);
+}
+
+#[test]
+fn generator_model_of_bad_input_tests_is_valid() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&generators_base())).expect("model written");
+    let r = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
+    r.assert_success("check of the generator model");
+    let j = r.json();
+    assert_eq!(j["nodes"].as_u64(), Some(21 * 16 + 9 * 7));
+    assert_eq!(j["shells"].as_u64(), Some(20 * 16 + 8 * 6));
+    assert_eq!(j["springs"].as_u64(), Some(2 * 16), "each bearing spread over its ring's 16 nodes");
+    assert_eq!(j["zero_energy_modes"].as_u64(), Some(0));
+    let out = dir.join("out");
+    let r =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    r.assert_success("design of the generator model");
+    assert!(num(&r.json()["peak_after"], "peak_after") < num(&r.json()["peak_before"], "peak_before"));
+}
+
+#[test]
+fn rejects_tube_wall_not_thinner_than_its_radius() {
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["wall_thickness"] = json!(0.025),
+        &["tubes[0] (\"shaft\").wall_thickness", "not less than the outer radius 0.025 m"],
+    );
+    assert_generator_edit_rejected(
+        |m| {
+            m["tubes"][0]["segments"] =
+                json!([{"to": 0.5}, {"to": 1.0, "outer_diameter": 0.03, "wall_thickness": 0.016}])
+        },
+        &["tubes[0] (\"shaft\").segments[1].wall_thickness", "outer radius"],
+    );
+}
+
+#[test]
+fn rejects_zero_divisions() {
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["along"] = json!(0),
+        &["tubes[0] (\"shaft\").along", "0 elements along"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["around"] = json!(2),
+        &["tubes[0] (\"shaft\").around", "at least 3"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["panels"][0]["divisions"] = json!([0, 6]),
+        &["panels[0] (\"lid\").divisions", "zero divisions"],
+    );
+}
+
+#[test]
+fn rejects_segments_that_do_not_fit_the_length() {
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["segments"] = json!([{"to": 0.6}, {"to": 0.4}, {"to": 1.0}]),
+        &["tubes[0] (\"shaft\").segments[1].to", "must increase"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["segments"] = json!([{"to": 0.3}, {"to": 0.9}]),
+        &["tubes[0] (\"shaft\").segments", "ends at 0.9", "must be 1"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["segments"] = json!([{"to": 0.5}, {"to": 1.2}]),
+        &["tubes[0] (\"shaft\").segments[1].to", "at most 1"],
+    );
+}
+
+#[test]
+fn rejects_unknown_tube_or_panel_in_a_region() {
+    assert_generator_edit_rejected(
+        |m| m["regions"]["top"]["tube"] = json!("boom"),
+        &["regions.top.tube", "tube \"boom\" is not defined", "(defined: \"shaft\")"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["regions"]["lid middle"]["panel"] = json!("door"),
+        &["regions.lid middle.panel", "panel \"door\" is not defined", "(defined: \"lid\")"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["study"]["excitation"][0]["at"] = json!({"region": "nowhere"}),
+        &["study.excitation[0].at.region", "region \"nowhere\" is not defined"],
+    );
+}
+
+#[test]
+fn rejects_a_region_that_selects_nothing() {
+    // No station lies between 0.31 and 0.34 (stations every 0.04).
+    assert_generator_edit_rejected(
+        |m| m["regions"]["drive"] = json!({"tube": "shaft", "from": 0.31, "to": 0.34}),
+        &["regions.drive", "selects no node"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["regions"]["far"] = json!({"box": [[5, 5, 5], [6, 6, 6]]}),
+        &["regions.far", "selects no node"],
+    );
+}
+
+#[test]
+fn rejects_non_positive_generator_sizes() {
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["length"] = json!(0.0),
+        &["tubes[0] (\"shaft\").length", "positive"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["outer_diameter"] = json!(-0.05),
+        &["tubes[0] (\"shaft\").outer_diameter", "positive"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["panels"][0]["size"] = json!([0.4, -0.3]),
+        &["panels[0] (\"lid\").size[1]", "positive"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["panels"][0]["thickness"] = json!(0),
+        &["panels[0] (\"lid\").thickness", "positive"],
+    );
+}
+
+#[test]
+fn rejects_duplicate_tube_and_panel_names() {
+    assert_generator_edit_rejected(
+        |m| {
+            let mut t = m["tubes"][0].clone();
+            t["start"] = json!([0, -1, 0]);
+            m["tubes"].as_array_mut().expect("tubes").push(t);
+        },
+        &["tubes[1]", "tube \"shaft\" is defined twice (first at tubes[0])"],
+    );
+    assert_generator_edit_rejected(
+        |m| {
+            let mut p = m["panels"][0].clone();
+            p["origin"] = json!([0, 1, 0]);
+            m["panels"].as_array_mut().expect("panels").push(p);
+        },
+        &["panels[1]", "panel \"lid\" is defined twice (first at panels[0])"],
+    );
+}
+
+#[test]
+fn rejects_misused_generator_fields() {
+    assert_generator_edit_rejected(
+        |m| {
+            m["tubes"][0]["fidelity"] = json!("beam");
+            m["tubes"][0].as_object_mut().expect("tube").remove("around");
+        },
+        &["regions.drive.angle_deg", "meshed as beams"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["fidelity"] = json!("beam"),
+        &["tubes[0] (\"shaft\").around", "shell"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["ends"]["end"] = json!({"bearing": {"uy": 0.0}}),
+        &["tubes[0] (\"shaft\").ends.end.bearing", "at least one positive stiffness"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["panels"][0]["mounts"] = json!([{"at": [0.5, 0.1], "stiffness": {"uz": 1e4}}]),
+        &["panels[0] (\"lid\").mounts[0].at", "outside the panel"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["regions"]["top"]["fom"] = json!(0.1),
+        &["regions.top", "unknown field `fom`"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["springs"] = json!([{"at": {"region": "top"}, "to": {"region": "drive"}, "stiffness": {"uz": 1e3}}]),
+        &["springs[0].to", "one spring to ground per node"],
+    );
+}

@@ -9,8 +9,13 @@
 //!   vector perpendicular to x (default orientation: global Z, or global X for a beam along Z);
 //!   z = x × y. A section's `height` runs along local y and its `width` along local z.
 //! - Locations resolve to nodes: by id, by coordinates snapped to the nearest node within a
-//!   tolerance (default 1 % of the model's bounding-box diagonal), or by a fraction along a line
-//!   (its nearest node).
+//!   tolerance (default 1 % of the model's bounding-box diagonal), by a fraction along a line or a
+//!   tube (its nearest node; for a shell tube the node at angle 0 of the nearest ring), or by a
+//!   named region (all its nodes where a set makes sense, otherwise its node nearest the centroid).
+//! - Generated parts: tubes run from `start` along a unit `axis`; shell-tube angles are measured
+//!   about the axis, right-handed, from the reference direction (global Y made perpendicular to the
+//!   axis, or global Z for an axis along Y). Panels lie in the global X-Y plane with normals along
+//!   +Z; panel coordinates (u, v) run along X and Y from the panel's origin.
 //!
 //! # Example
 //! ```
@@ -31,8 +36,11 @@
 //! ```
 
 mod error;
+mod generate;
 mod io;
 mod model;
+mod quality;
+mod region;
 mod section;
 mod structure;
 mod validate;
@@ -41,16 +49,22 @@ mod vtk;
 pub use error::ModelError;
 pub use io::{load_model, model_schema_json, parse_model, write_atomic};
 pub use model::{
-    Absorber, AbsorberDesign, AutoWord, Axis, Beam, CandidateSet, CircleSection, CircularTubeSection, Direction, Dof,
-    DofValues, ElementId, ExplicitSection, Fixity, FixityPreset, Force, Ground, Line, Location, MassMatrix, Material,
-    Model, Node, NodeId, Objective, PointMass, RectangleSection, RectangularTubeSection, ResponsePoint, Section,
-    Spring, SpringEnd, Study, Support, Targets,
+    Absorber, AbsorberDesign, AutoWord, Axis, Beam, Bearing, BoxRegion, CandidateSet, CircleSection,
+    CircularTubeSection, Direction, Dof, DofValues, EdgePreset, EdgeSupport, ElasticEdge, ElementId, EndPreset,
+    ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Location, MassMatrix, Material, Model, Mount,
+    Node, NodeId, NodesRegion, Objective, Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection,
+    RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell, Sphere, SphereRegion, Spring, SpringEnd,
+    Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeRegion, TubeSegment,
+};
+pub use quality::{
+    ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
+    shell_shape,
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, MaterialProperties, NodalMass,
-    PointForce, ResponseSpec, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, bounding_diagonal,
-    distance,
+    PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec,
+    TubeNodes, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};

@@ -54,6 +54,18 @@ pub struct Model {
     /// Explicit two-node beam elements.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub beams: Vec<Beam>,
+    /// Flat shell elements (3-node triangles, 4-node quadrilaterals) for walls of tubes and panels.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub shells: Vec<Shell>,
+    /// Parametric round tubes, meshed as beams or as shells (a shaft, a boom, a pipe in one object).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub tubes: Vec<Tube>,
+    /// Parametric flat rectangular panels in the global X-Y plane, meshed as shells.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub panels: Vec<Panel>,
+    /// Named sets of nodes, used by locations (`{"region": name}`) and absorber candidates.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub regions: BTreeMap<String, Region>,
     /// Fixed degrees of freedom.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub supports: Vec<Support>,
@@ -66,7 +78,7 @@ pub struct Model {
     /// Tuned absorbers attached to the structure (mass on a spring acting along one direction).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub absorbers: Vec<Absorber>,
-    /// Mass matrix kind for beam elements: `consistent` (default) or `lumped`.
+    /// Mass matrix kind for beam and shell elements: `consistent` (default) or `lumped`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mass_matrix: Option<MassMatrix>,
     /// Number of zero-frequency (rigid-body or mechanism) modes the model is expected to have.
@@ -250,9 +262,32 @@ pub struct Beam {
     pub orientation: Option<[f64; 3]>,
 }
 
-/// A place in the model that resolves to one node. Give exactly one form:
-/// `{"node": id}`, `{"xyz": [x, y, z]}` (snapped to the nearest node within `tolerance`), or
-/// `{"line": name, "at": fraction}` (the line's node nearest that fraction of its length).
+/// A flat shell element: a 3-node triangle or a 4-node quadrilateral with six DOFs per node
+/// (membrane, bending with transverse shear, and a small drilling stiffness).
+///
+/// Node order runs counter-clockwise seen from the side the element normal points to (right-hand
+/// rule). Neighbouring shells are re-ordered where needed so that normals agree across shared
+/// edges (a warning says which). A warped quadrilateral is projected to its mean plane.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Shell {
+    /// Identifier, unique among shells.
+    pub id: ElementId,
+    /// Corner nodes: three (triangle) or four (quadrilateral).
+    pub nodes: Vec<NodeId>,
+    /// Wall thickness, in m.
+    pub thickness: f64,
+    /// Material name.
+    pub material: String,
+}
+
+/// A place in the model that resolves to one node (or, where a set of nodes makes sense, to a
+/// region's nodes). Give exactly one form: `{"node": id}`, `{"xyz": [x, y, z]}` (snapped to the
+/// nearest node within `tolerance`), `{"line": name, "at": fraction}` (the line's node nearest that
+/// fraction of its length), `{"tube": name, "at": fraction}` (a beam tube's node nearest the
+/// fraction; for a shell tube the node at angle 0 of the ring nearest the fraction), or
+/// `{"region": name}` (supports and springs to ground: every node of the region; elsewhere the
+/// region's node nearest its centroid).
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Location {
@@ -268,9 +303,16 @@ pub struct Location {
     /// A line name.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub line: Option<String>,
-    /// Fraction of the line's length from its `from` point, in [0, 1].
+    /// A tube name (with `at`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tube: Option<String>,
+    /// Fraction of the line's length from its `from` point, or of the tube's length from its
+    /// `start`, in [0, 1].
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub at: Option<f64>,
+    /// A region name.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub region: Option<String>,
 }
 
 impl Location {
@@ -545,7 +587,7 @@ pub enum Objective {
 }
 
 /// Where absorbers may go: `{"line": name, "from": a, "to": b}` (every line node between those
-/// fractions), `{"node": id}` or `{"xyz": [x, y, z]}`.
+/// fractions), `{"node": id}`, `{"xyz": [x, y, z]}` or `{"region": name}` (every node of the region).
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CandidateSet {
@@ -564,6 +606,9 @@ pub struct CandidateSet {
     /// Coordinates, in m, snapped to the nearest node (1 % of the bounding-box diagonal).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub xyz: Option<[f64; 3]>,
+    /// A region name: every node of the region is a candidate.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub region: Option<String>,
 }
 
 /// Absorber design request.
@@ -601,4 +646,381 @@ fn default_targets() -> Targets {
 
 fn default_count() -> usize {
     1
+}
+
+/// How a tube is meshed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "lowercase")]
+pub enum Fidelity {
+    /// Beam elements along the axis with a circular-tube section (default).
+    Beam,
+    /// Flat quadrilateral shells on the mid-surface (ovaling and wall modes included).
+    Shell,
+}
+
+/// A straight round tube of given length along an axis, meshed by the program.
+///
+/// Geometry: the axis runs from `start` along `axis` for `length`. The wall is given by
+/// `outer_diameter` and `wall_thickness`, or piecewise by `segments` (a stepped shaft). With
+/// `"fidelity": "shell"` the wall is meshed with quadrilaterals on the mid-surface radius
+/// (D − t)/2; angles about the axis are measured from the reference direction (the part of global Y
+/// perpendicular to the axis, or of global Z when the axis is along Y), positive by the right-hand
+/// rule about the axis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Tube {
+    /// Name, unique among tubes; used by locations and regions.
+    pub name: String,
+    /// Length along the axis, in m.
+    pub length: f64,
+    /// Outer diameter, in m (of every segment that does not give its own).
+    pub outer_diameter: f64,
+    /// Wall thickness, in m; less than half the outer diameter (of every segment that does not give
+    /// its own).
+    pub wall_thickness: f64,
+    /// Material name.
+    pub material: String,
+    /// Start point of the axis, in m. Default: the origin.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub start: Option<[f64; 3]>,
+    /// Axis direction (normalised on use). Default: global +X.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub axis: Option<[f64; 3]>,
+    /// `beam` (default) or `shell`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fidelity: Option<Fidelity>,
+    /// Shell fidelity: number of elements around the circumference. Default: the circumference over
+    /// `element_size`, at least 16.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub around: Option<usize>,
+    /// Number of elements along the length (shared among the segments in proportion to their
+    /// lengths, at least one each). Default: the length over `element_size`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub along: Option<usize>,
+    /// Target element size, in m. Default: shell, the mid-surface circumference / 32; beam, the
+    /// length / 40.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub element_size: Option<f64>,
+    /// Beam fidelity: Timoshenko beams with Cowper's shear coefficient. Default true.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub shear_deformation: Option<bool>,
+    /// Stepped wall: consecutive segments, each ending at a fraction of the length; the last ends
+    /// at 1. Default: one segment of the tube's diameter and wall.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub segments: Vec<TubeSegment>,
+    /// Conditions at the two ends. Default: both free.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ends: Option<TubeEnds>,
+}
+
+/// One segment of a stepped tube: from the previous segment's end (or 0) to `to`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct TubeSegment {
+    /// End of the segment, as a fraction of the tube's length in (0, 1].
+    pub to: f64,
+    /// Outer diameter, in m. Default: the tube's.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub outer_diameter: Option<f64>,
+    /// Wall thickness, in m. Default: the tube's.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub wall_thickness: Option<f64>,
+}
+
+/// Conditions at a tube's start and end.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct TubeEnds {
+    /// At the start (fraction 0). Default free.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub start: Option<TubeEnd>,
+    /// At the end (fraction 1). Default free.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub end: Option<TubeEnd>,
+}
+
+/// A tube end: `"free"`, `"pinned"`, `"clamped"` or an elastic bearing.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(untagged)]
+pub enum TubeEnd {
+    /// A shorthand.
+    Preset(EndPreset),
+    /// An elastic bearing.
+    Bearing(Bearing),
+}
+
+/// Shorthand tube ends.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "lowercase")]
+pub enum EndPreset {
+    /// Nothing held.
+    Free,
+    /// The three translations fixed (at every ring node for a shell tube).
+    Pinned,
+    /// All six DOFs fixed (at every ring node for a shell tube).
+    Clamped,
+}
+
+/// An elastic bearing: springs to ground in global axes at the end node (beam) or spread equally
+/// over the ring's nodes (shell).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Bearing {
+    /// Stiffness per global DOF: N/m for ux, uy, uz, N·m/rad for rx, ry, rz (at least one).
+    pub bearing: DofValues,
+    /// Position as a fraction of the tube's length. Default: this end (0 or 1).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub at: Option<f64>,
+}
+
+/// A flat rectangular panel in the global X-Y plane, meshed with quadrilateral shells whose normals
+/// point along +Z. Panel coordinates (u, v) run from `origin` along X and Y.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Panel {
+    /// Name, unique among panels; used by regions.
+    pub name: String,
+    /// Side lengths `[a, b]`: a along X, b along Y, in m.
+    pub size: [f64; 2],
+    /// Thickness, in m.
+    pub thickness: f64,
+    /// Material name.
+    pub material: String,
+    /// Corner (u, v) = (0, 0), in m. Default: the origin.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub origin: Option<[f64; 3]>,
+    /// Elements along X and Y `[nx, ny]`. Default: the sides over `element_size`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub divisions: Option<[usize; 2]>,
+    /// Target element size, in m. Default: the shorter side / 20.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub element_size: Option<f64>,
+    /// Edge conditions. Default: all free.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub edges: Option<PanelEdges>,
+    /// Elastic mounts: springs to ground at the nodes nearest the given panel points.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub mounts: Vec<Mount>,
+}
+
+/// Conditions on the four edges of a panel: `x0` (u = 0), `x1` (u = a), `y0` (v = 0), `y1` (v = b).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct PanelEdges {
+    /// The edge u = 0 (along Y).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub x0: Option<EdgeSupport>,
+    /// The edge u = a (along Y).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub x1: Option<EdgeSupport>,
+    /// The edge v = 0 (along X).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub y0: Option<EdgeSupport>,
+    /// The edge v = b (along X).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub y1: Option<EdgeSupport>,
+}
+
+/// A panel edge: `"free"`, `"simply_supported"`, `"clamped"` or `{"elastic": {...}}`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(untagged)]
+pub enum EdgeSupport {
+    /// A shorthand.
+    Preset(EdgePreset),
+    /// Distributed springs to ground along the edge.
+    Elastic(ElasticEdge),
+}
+
+/// Shorthand panel edges.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum EdgePreset {
+    /// Nothing held.
+    Free,
+    /// uz = 0 and the rotation about the edge's in-plane normal fixed (rx on x0/x1, ry on y0/y1),
+    /// with the in-plane ux, uy, rz fixed too.
+    SimplySupported,
+    /// All six DOFs fixed.
+    Clamped,
+}
+
+/// Springs to ground distributed along a panel edge.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct ElasticEdge {
+    /// Stiffness per unit length of edge, in global axes: N/m² for ux, uy, uz, N/rad (N·m/rad per m)
+    /// for rx, ry, rz. Each edge node gets it times its share of the edge length.
+    pub elastic: DofValues,
+}
+
+/// An elastic mount of a panel: a spring to ground at the node nearest a panel point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Mount {
+    /// Panel coordinates `[u, v]`, in m, inside the panel.
+    pub at: [f64; 2],
+    /// Stiffness per global DOF: N/m for ux, uy, uz, N·m/rad for rx, ry, rz (at least one).
+    pub stiffness: DofValues,
+}
+
+/// A named set of nodes. Give exactly one form: `{"tube", ...}`, `{"panel", ...}`,
+/// `{"box": [[x0, y0, z0], [x1, y1, z1]]}`, `{"sphere": {"centre", "radius"}}` or
+/// `{"nodes": [ids]}`; the form is the first of the keys `tube`, `panel`, `box`, `sphere`, `nodes`
+/// that the object has. A region that selects no node is an error.
+#[derive(Debug, Clone, PartialEq, Serialize, JsonSchema)]
+#[serde(untagged)]
+pub enum Region {
+    /// Part of a tube.
+    Tube(TubeRegion),
+    /// Part of a panel.
+    Panel(PanelRegion),
+    /// An axis-aligned box in global coordinates.
+    Box(BoxRegion),
+    /// A ball in global coordinates.
+    Sphere(SphereRegion),
+    /// Listed nodes.
+    Nodes(NodesRegion),
+}
+
+/// The nodes of a tube between two axial fractions, optionally within an angle range (shell tubes)
+/// or only on an end ring.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct TubeRegion {
+    /// Tube name.
+    pub tube: String,
+    /// Start fraction of the length, in [0, 1]. Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub from: Option<f64>,
+    /// End fraction of the length, in [0, 1]. Default 1.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub to: Option<f64>,
+    /// Shell tubes: angle range `[a0, a1]` about the axis from the reference direction, in degrees,
+    /// running from a0 up to a1 (through 360° when a1 < a0). Default: all the way round.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub angle_deg: Option<[f64; 2]>,
+    /// Only the ring (shell) or node (beam) at the start or the end of the tube.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ring: Option<RingEnd>,
+}
+
+/// An end of a tube.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "lowercase")]
+pub enum RingEnd {
+    /// Fraction 0.
+    Start,
+    /// Fraction 1.
+    End,
+}
+
+/// Nodes of a panel: one edge, a box in panel coordinates, or the node nearest a point (exactly
+/// one of `edge`, `box`, `point`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct PanelRegion {
+    /// Panel name.
+    pub panel: String,
+    /// An edge: every node on it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub edge: Option<PanelEdge>,
+    /// Corners `[[u0, v0], [u1, v1]]` in panel coordinates, in m: every node inside (edges included).
+    #[serde(rename = "box", default, skip_serializing_if = "Option::is_none")]
+    pub bounds: Option<[[f64; 2]; 2]>,
+    /// A point `[u, v]` in panel coordinates, in m: the nearest node.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub point: Option<[f64; 2]>,
+}
+
+/// A panel edge by name.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "lowercase")]
+pub enum PanelEdge {
+    /// u = 0.
+    X0,
+    /// u = a.
+    X1,
+    /// v = 0.
+    Y0,
+    /// v = b.
+    Y1,
+}
+
+impl PanelEdge {
+    /// The name used in model files.
+    pub fn name(self) -> &'static str {
+        match self {
+            Self::X0 => "x0",
+            Self::X1 => "x1",
+            Self::Y0 => "y0",
+            Self::Y1 => "y1",
+        }
+    }
+}
+
+/// Every node inside an axis-aligned box (faces included).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct BoxRegion {
+    /// Lower and upper corners `[[x0, y0, z0], [x1, y1, z1]]`, in m.
+    #[serde(rename = "box")]
+    pub corners: [[f64; 3]; 2],
+}
+
+/// Every node inside a ball (surface included).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct SphereRegion {
+    /// The ball.
+    pub sphere: Sphere,
+}
+
+/// A ball.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Sphere {
+    /// Centre, in m.
+    pub centre: [f64; 3],
+    /// Radius, in m.
+    pub radius: f64,
+}
+
+/// Listed nodes.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct NodesRegion {
+    /// Node ids.
+    pub nodes: Vec<NodeId>,
+}
+
+/// A region's form is chosen by its keys (`tube`, `panel`, `box`, `sphere`, `nodes`, in that order),
+/// so a mistake inside one form is reported against that form (an unknown field, a wrong type)
+/// rather than as "matches no variant".
+impl<'de> Deserialize<'de> for Region {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        use serde::de::Error;
+        let value = serde_json::Value::deserialize(deserializer)?;
+        let serde_json::Value::Object(map) = &value else {
+            return Err(D::Error::custom(
+                "a region is an object: {\"tube\": ...}, {\"panel\": ...}, {\"box\": ...}, {\"sphere\": ...} or {\"nodes\": [...]}",
+            ));
+        };
+        let has = |k: &str| map.contains_key(k);
+        let parsed = if has("tube") {
+            serde_json::from_value(value).map(Region::Tube)
+        } else if has("panel") {
+            serde_json::from_value(value).map(Region::Panel)
+        } else if has("box") {
+            serde_json::from_value(value).map(Region::Box)
+        } else if has("sphere") {
+            serde_json::from_value(value).map(Region::Sphere)
+        } else if has("nodes") {
+            serde_json::from_value(value).map(Region::Nodes)
+        } else {
+            return Err(D::Error::custom(
+                "a region needs one of the keys \"tube\", \"panel\", \"box\", \"sphere\" or \"nodes\"",
+            ));
+        };
+        parsed.map_err(D::Error::custom)
+    }
 }

@@ -4,15 +4,18 @@
 use std::collections::{BTreeMap, HashMap};
 
 use crate::error::ModelError;
+use crate::generate::{Part, panel_part, tube_part};
 use crate::model::{
     CandidateSet, Direction, ElementId, Fixity, FixityPreset, Location, MassMatrix, Model, NodeId, Objective, Section,
     SpringEnd, Targets,
 };
+use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, WARP_WARNING_DEG, shell_shape};
+use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, MaterialProperties, NodalMass,
-    PointForce, ResponseSpec, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, bounding_diagonal,
-    distance,
+    PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec,
+    TubeNodes, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -33,7 +36,11 @@ pub fn validate(model: &Model) -> Result<Structure, ModelError> {
     let mut b = Builder::new(model)?;
     b.nodes()?;
     b.lines()?;
+    b.tubes()?;
+    b.panels()?;
+    b.regions()?;
     b.beams()?;
+    let shells = b.shells()?;
     let fixed = b.supports()?;
     let springs = b.springs()?;
     let point_masses = b.point_masses()?;
@@ -46,11 +53,15 @@ pub fn validate(model: &Model) -> Result<Structure, ModelError> {
         title: model.title.clone(),
         nodes: b.nodes,
         beams: b.beams,
+        shells,
         fixed,
         springs,
         point_masses,
         absorbers,
         lines: b.lines,
+        tubes: b.tubes,
+        panels: b.panels,
+        regions: b.regions,
         mass_matrix: model.mass_matrix.unwrap_or(MassMatrix::Consistent),
         rigid_body_modes: model.rigid_body_modes,
         study,
@@ -59,7 +70,9 @@ pub fn validate(model: &Model) -> Result<Structure, ModelError> {
     if structure.total_mass().partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
         return Err(ModelError::NoMass);
     }
+    orient_shells(&mut structure);
     add_connectivity_warnings(&mut structure);
+    add_shell_quality_warnings(&mut structure);
     Ok(structure)
 }
 
@@ -69,7 +82,8 @@ struct BeamSource<'s> {
     label: String,
     at: &'s str,
     nodes: [usize; 2],
-    section: &'s str,
+    section_name: &'s str,
+    section: &'s Section,
     material: &'s str,
     orientation: Option<[f64; 3]>,
     line: Option<usize>,
@@ -85,8 +99,47 @@ struct Builder<'a> {
     beams: Vec<BeamElement>,
     lines: Vec<LineNodes>,
     line_index: HashMap<&'a str, usize>,
+    tubes: Vec<TubeNodes>,
+    tube_index: HashMap<&'a str, usize>,
+    panels: Vec<PanelNodes>,
+    panel_index: HashMap<&'a str, usize>,
+    regions: BTreeMap<String, Vec<usize>>,
+    /// Shells of generated parts, after the explicit ones.
+    generated_shells: Vec<ShellElement>,
+    /// Fixed DOFs of generated parts.
+    generated_fixed: Vec<(usize, [bool; 6])>,
+    /// Springs of generated parts.
+    generated_springs: Vec<SpringElement>,
+    /// Next id of a generated node, beam and shell.
+    next_node: u64,
+    next_beam: u64,
+    next_shell: u64,
     warnings: Vec<String>,
     size: f64,
+}
+
+/// The node ids of `nodes`, as runs, for messages: ` (defined: 1 to 49, 60)`.
+fn node_ids_hint(nodes: &[StructureNode]) -> String {
+    let mut ids: Vec<u64> = nodes.iter().map(|n| n.id.0).collect();
+    if ids.is_empty() {
+        return " (the model defines no node)".into();
+    }
+    ids.sort_unstable();
+    ids.dedup();
+    let mut runs: Vec<(u64, u64)> = Vec::new();
+    for id in ids {
+        match runs.last_mut() {
+            Some((_, last)) if *last + 1 == id => *last = id,
+            _ => runs.push((id, id)),
+        }
+    }
+    const SHOWN: usize = 8;
+    let mut parts: Vec<String> =
+        runs.iter().take(SHOWN).map(|&(a, b)| if a == b { a.to_string() } else { format!("{a} to {b}") }).collect();
+    if runs.len() > SHOWN {
+        parts.push("...".into());
+    }
+    format!(" (defined: {})", parts.join(", "))
 }
 
 fn check_positive(at: &str, field: &'static str, value: f64) -> Result<(), ModelError> {
@@ -195,8 +248,16 @@ impl<'a> Builder<'a> {
             check_point(&format!("lines[{i}].from"), l.from)?;
             check_point(&format!("lines[{i}].to"), l.to)?;
         }
-        let size =
-            bounding_diagonal(model.nodes.iter().map(|n| n.xyz).chain(model.lines.iter().flat_map(|l| [l.from, l.to])));
+        let size = bounding_diagonal(
+            model
+                .nodes
+                .iter()
+                .map(|n| n.xyz)
+                .chain(model.lines.iter().flat_map(|l| [l.from, l.to]))
+                .chain(model.tubes.iter().flat_map(tube_extent))
+                .chain(model.panels.iter().flat_map(panel_extent))
+                .filter(|p| p.iter().all(|v| v.is_finite())),
+        );
         let tol = (MERGE_TOLERANCE * size).max(1e-12);
         Ok(Self {
             model,
@@ -208,6 +269,17 @@ impl<'a> Builder<'a> {
             beams: Vec::new(),
             lines: Vec::new(),
             line_index: HashMap::new(),
+            tubes: Vec::new(),
+            tube_index: HashMap::new(),
+            panels: Vec::new(),
+            panel_index: HashMap::new(),
+            regions: BTreeMap::new(),
+            generated_shells: Vec::new(),
+            generated_fixed: Vec::new(),
+            generated_springs: Vec::new(),
+            next_node: model.nodes.iter().map(|n| n.id.0).max().map_or(1, |m| m + 1),
+            next_beam: model.beams.iter().map(|b| b.id.0).max().map_or(1, |m| m + 1),
+            next_shell: model.shells.iter().map(|e| e.id.0).max().map_or(1, |m| m + 1),
             warnings: Vec::new(),
             size,
         })
@@ -235,26 +307,223 @@ impl<'a> Builder<'a> {
 
     /// The node ids defined so far, as runs, for messages: ` (defined: 1 to 49, 60)`.
     fn node_ids_hint(&self) -> String {
-        let mut ids: Vec<u64> = self.nodes.iter().map(|n| n.id.0).collect();
-        if ids.is_empty() {
-            return " (the model defines no node)".into();
+        node_ids_hint(&self.nodes)
+    }
+
+    /// The node at `p`: an existing node within the merge tolerance, or a new one with the next
+    /// generated id; `path` says where a new node came from.
+    fn add_point(&mut self, p: [f64; 3], path: impl FnOnce() -> String) -> usize {
+        if let Some(i) = self.grid.find(p, &self.nodes) {
+            return i;
         }
-        ids.sort_unstable();
-        ids.dedup();
-        let mut runs: Vec<(u64, u64)> = Vec::new();
-        for id in ids {
-            match runs.last_mut() {
-                Some((_, last)) if *last + 1 == id => *last = id,
-                _ => runs.push((id, id)),
+        let i = self.nodes.len();
+        let id = NodeId(self.next_node);
+        self.next_node += 1;
+        self.nodes.push(StructureNode { id, xyz: p });
+        self.node_index.insert(id, i);
+        self.node_path.insert(id, path());
+        self.grid.insert(p, i);
+        i
+    }
+
+    /// Generated tubes: each meshed by [`tube_part`] and joined like a line.
+    fn tubes(&mut self) -> Result<(), ModelError> {
+        let model = self.model;
+        for (ti, t) in model.tubes.iter().enumerate() {
+            let at = format!("tubes[{ti}]");
+            if t.name.trim().is_empty() {
+                return Err(ModelError::Invalid { at, message: "a tube needs a non-empty name".into() });
+            }
+            if let Some(&first) = self.tube_index.get(t.name.as_str()) {
+                return Err(ModelError::Duplicate {
+                    at,
+                    kind: "tube",
+                    id: format!("\"{}\"", t.name),
+                    first: format!("tubes[{first}]"),
+                    key: "name",
+                });
+            }
+            let named = format!("{at} (\"{}\")", t.name);
+            let material = self.material(&format!("{named}.material"), &t.material)?;
+            let tp = tube_part(&named, t)?;
+            let map = self.join(&named, &tp.part, &t.material, material)?;
+            for (k, b) in tp.part.beams.iter().enumerate() {
+                let section = Section::CircularTube(b.section.clone());
+                let section_name = if t.segments.is_empty() {
+                    format!("tube \"{}\"", t.name)
+                } else {
+                    format!("tube \"{}\" segment {}", t.name, b.segment + 1)
+                };
+                let label = format!("tube \"{}\" element {}", t.name, k + 1);
+                let e = self.beam_element(BeamSource {
+                    id: ElementId(self.next_beam),
+                    label,
+                    at: &named,
+                    nodes: [map[b.nodes[0]], map[b.nodes[1]]],
+                    section_name: &section_name,
+                    section: &section,
+                    material: &t.material,
+                    orientation: None,
+                    line: None,
+                })?;
+                self.next_beam += 1;
+                self.beams.push(e);
+            }
+            self.tube_index.insert(t.name.as_str(), self.tubes.len());
+            self.tubes.push(TubeNodes {
+                name: t.name.clone(),
+                fidelity: tp.fidelity,
+                rings: tp.rings.iter().map(|r| r.iter().map(|&n| map[n]).collect()).collect(),
+                fractions: tp.fractions,
+                start: tp.start,
+                axis: tp.axis,
+                reference: tp.reference,
+                length: t.length,
+            });
+        }
+        Ok(())
+    }
+
+    /// Generated panels: each meshed by [`panel_part`].
+    fn panels(&mut self) -> Result<(), ModelError> {
+        let model = self.model;
+        for (pi, p) in model.panels.iter().enumerate() {
+            let at = format!("panels[{pi}]");
+            if p.name.trim().is_empty() {
+                return Err(ModelError::Invalid { at, message: "a panel needs a non-empty name".into() });
+            }
+            if let Some(&first) = self.panel_index.get(p.name.as_str()) {
+                return Err(ModelError::Duplicate {
+                    at,
+                    kind: "panel",
+                    id: format!("\"{}\"", p.name),
+                    first: format!("panels[{first}]"),
+                    key: "name",
+                });
+            }
+            let named = format!("{at} (\"{}\")", p.name);
+            let material = self.material(&format!("{named}.material"), &p.material)?;
+            let pp = panel_part(&named, p)?;
+            let map = self.join(&named, &pp.part, &p.material, material)?;
+            self.panel_index.insert(p.name.as_str(), self.panels.len());
+            self.panels.push(PanelNodes {
+                name: p.name.clone(),
+                origin: pp.origin,
+                size: p.size,
+                divisions: pp.divisions,
+                nodes: map,
+            });
+        }
+        Ok(())
+    }
+
+    /// Joins a generated part: its points become nodes (merging with existing ones), its shells,
+    /// fixed DOFs and springs are kept for later; returns the node index of each local point.
+    fn join(
+        &mut self,
+        named: &str,
+        part: &Part,
+        material_name: &str,
+        material: MaterialProperties,
+    ) -> Result<Vec<usize>, ModelError> {
+        let map: Vec<usize> =
+            part.points.iter().enumerate().map(|(k, &p)| self.add_point(p, || format!("{named} node {k}"))).collect();
+        for e in &part.shells {
+            let nodes: Vec<usize> = e.nodes.iter().map(|&n| map[n]).collect();
+            let id = ElementId(self.next_shell);
+            self.next_shell += 1;
+            let xyz: Vec<[f64; 3]> = nodes.iter().map(|&n| self.nodes[n].xyz).collect();
+            let mut distinct = nodes.clone();
+            distinct.sort_unstable();
+            distinct.dedup();
+            let shape = if distinct.len() == nodes.len() { shell_shape(&xyz).ok() } else { None };
+            let Some(shape) = shape else {
+                return Err(ModelError::Invalid {
+                    at: named.to_string(),
+                    message: format!(
+                        "its generated shell {id} has an unusable shape (corners merged with other nodes?); \
+                         check the dimensions and element counts"
+                    ),
+                });
+            };
+            self.generated_shells.push(ShellElement {
+                id,
+                label: format!("shell {id} ({named})"),
+                nodes,
+                thickness: e.thickness,
+                material_name: material_name.to_string(),
+                material,
+                shape,
+            });
+        }
+        self.generated_fixed.extend(part.fixed.iter().map(|&(n, f)| (map[n], f)));
+        self.generated_springs.extend(part.springs.iter().map(|s| SpringElement {
+            label: s.label.clone(),
+            node: map[s.node],
+            other: None,
+            stiffness: s.stiffness,
+        }));
+        self.warnings.extend(part.warnings.iter().cloned());
+        Ok(map)
+    }
+
+    /// Every region's nodes.
+    fn regions(&mut self) -> Result<(), ModelError> {
+        let nodes = &self.nodes;
+        let hint = || node_ids_hint(nodes);
+        let cx = RegionContext {
+            nodes,
+            node_index: &self.node_index,
+            tubes: &self.tubes,
+            panels: &self.panels,
+            slack: self.grid.tolerance,
+            node_hint: &hint,
+        };
+        let mut out = BTreeMap::new();
+        for (name, r) in &self.model.regions {
+            let at = format!("regions.{name}");
+            if name.trim().is_empty() {
+                return Err(ModelError::Invalid { at, message: "a region needs a non-empty name".into() });
+            }
+            out.insert(name.clone(), select(&at, r, &cx)?);
+        }
+        self.regions = out;
+        Ok(())
+    }
+
+    /// The nodes of region `name`.
+    fn region(&self, at: &str, name: &str) -> Result<&[usize], ModelError> {
+        self.regions.get(name).map(Vec::as_slice).ok_or_else(|| ModelError::UnknownName {
+            at: at.to_string(),
+            kind: "region",
+            name: name.to_string(),
+            hint: names_hint(self.model.regions.keys()),
+        })
+    }
+
+    /// The node of `nodes` nearest their centroid (the unweighted mean of their coordinates); of
+    /// nodes equally near (within 10⁻⁹ of the model size), the first in node order.
+    fn centroid_node(&self, nodes: &[usize]) -> usize {
+        let n = nodes.len() as f64;
+        let mut c = [0.0; 3];
+        for &i in nodes {
+            for k in 0..3 {
+                c[k] += self.nodes[i].xyz[k] / n;
             }
         }
-        const SHOWN: usize = 8;
-        let mut parts: Vec<String> =
-            runs.iter().take(SHOWN).map(|&(a, b)| if a == b { a.to_string() } else { format!("{a} to {b}") }).collect();
-        if runs.len() > SHOWN {
-            parts.push("...".into());
-        }
-        format!(" (defined: {})", parts.join(", "))
+        let d: Vec<f64> = nodes.iter().map(|&i| distance(self.nodes[i].xyz, c)).collect();
+        let least = d.iter().copied().fold(f64::INFINITY, f64::min);
+        let slack = MERGE_TOLERANCE * self.size.max(1e-300);
+        nodes.iter().zip(&d).filter(|(_, di)| **di <= least + slack).map(|(&i, _)| i).min().unwrap_or(nodes[0])
+    }
+
+    fn tube(&self, at: &str, name: &str) -> Result<usize, ModelError> {
+        self.tube_index.get(name).copied().ok_or_else(|| ModelError::UnknownName {
+            at: at.to_string(),
+            kind: "tube",
+            name: name.to_string(),
+            hint: names_hint(self.model.tubes.iter().map(|t| &t.name)),
+        })
     }
 
     fn material(&self, at: &str, name: &str) -> Result<MaterialProperties, ModelError> {
@@ -305,8 +574,7 @@ impl<'a> Builder<'a> {
     }
 
     fn beam_element(&self, src: BeamSource<'_>) -> Result<BeamElement, ModelError> {
-        let BeamSource { id, label, at, nodes, section, material, orientation, line } = src;
-        let sec = self.section(&format!("{at}.section"), section)?;
+        let BeamSource { id, label, at, nodes, section_name, section: sec, material, orientation, line } = src;
         let mat = self.material(&format!("{at}.material"), material)?;
         let (a, b) = (self.nodes[nodes[0]].xyz, self.nodes[nodes[1]].xyz);
         if distance(a, b) <= self.grid.tolerance {
@@ -324,7 +592,7 @@ impl<'a> Builder<'a> {
             id,
             label,
             nodes,
-            section_name: section.to_string(),
+            section_name: section_name.to_string(),
             section: section_properties(sec, mat.poisson_ratio),
             material_name: material.to_string(),
             material: mat,
@@ -334,8 +602,6 @@ impl<'a> Builder<'a> {
     }
 
     fn lines(&mut self) -> Result<(), ModelError> {
-        let mut next_node = self.model.nodes.iter().map(|n| n.id.0).max().map_or(1, |m| m + 1);
-        let mut next_elem = self.model.beams.iter().map(|b| b.id.0).max().map_or(1, |m| m + 1);
         let model = self.model;
         for (li, l) in model.lines.iter().enumerate() {
             let at = format!("lines[{li}]");
@@ -364,7 +630,7 @@ impl<'a> Builder<'a> {
                 });
             }
             // Check references before generating anything, so errors name the line itself.
-            self.section(&format!("{at}.section"), &l.section)?;
+            let section = self.section(&format!("{at}.section"), &l.section)?;
             self.material(&format!("{at}.material"), &l.material)?;
             let n = l.elements;
             let mut idx = Vec::with_capacity(n + 1);
@@ -375,35 +641,23 @@ impl<'a> Builder<'a> {
                     l.from[1] + t * (l.to[1] - l.from[1]),
                     l.from[2] + t * (l.to[2] - l.from[2]),
                 ];
-                let i = match self.grid.find(p, &self.nodes) {
-                    Some(i) => i,
-                    None => {
-                        let i = self.nodes.len();
-                        let id = NodeId(next_node);
-                        next_node += 1;
-                        self.nodes.push(StructureNode { id, xyz: p });
-                        self.node_index.insert(id, i);
-                        self.node_path.insert(id, format!("{at} node {k}"));
-                        self.grid.insert(p, i);
-                        i
-                    }
-                };
-                idx.push(i);
+                idx.push(self.add_point(p, || format!("{at} node {k}")));
             }
             let line_no = self.lines.len();
             for k in 0..n {
                 let label = format!("line \"{}\" element {}", l.name, k + 1);
                 let e = self.beam_element(BeamSource {
-                    id: ElementId(next_elem),
+                    id: ElementId(self.next_beam),
                     label,
                     at: &at,
                     nodes: [idx[k], idx[k + 1]],
-                    section: &l.section,
+                    section_name: &l.section,
+                    section,
                     material: &l.material,
                     orientation: l.orientation,
                     line: Some(line_no),
                 })?;
-                next_elem += 1;
+                self.next_beam += 1;
                 self.beams.push(e);
             }
             self.line_index.insert(l.name.as_str(), line_no);
@@ -436,39 +690,125 @@ impl<'a> Builder<'a> {
                     hint: self.node_ids_hint(),
                 })?;
             }
+            let section = self.section(&format!("{at}.section"), &b.section)?;
             let e = self.beam_element(BeamSource {
                 id: b.id,
                 label: format!("beam {}", b.id),
                 at: &at,
                 nodes,
-                section: &b.section,
+                section_name: &b.section,
+                section,
                 material: &b.material,
                 orientation: b.orientation,
                 line: None,
             })?;
             explicit.push(e);
         }
-        // Explicit beams first, then line elements.
+        // Explicit beams first, then line and tube elements.
         explicit.append(&mut self.beams);
         self.beams = explicit;
         Ok(())
     }
 
-    /// Resolves a location to a node index.
-    fn locate(&mut self, at: &str, loc: &Location) -> Result<usize, ModelError> {
-        let forms = [loc.node.is_some(), loc.xyz.is_some(), loc.line.is_some() || loc.at.is_some()];
-        if forms.iter().filter(|&&f| f).count() != 1 {
-            return Err(ModelError::Invalid {
-                at: at.to_string(),
-                message:
-                    "give exactly one of {\"node\": id}, {\"xyz\": [x, y, z]} or {\"line\": name, \"at\": fraction}"
-                        .into(),
+    /// Shell elements: ids unique, 3 or 4 distinct existing nodes, positive thickness, a defined
+    /// material, and a shape an element can be built on ([`shell_shape`]).
+    fn shells(&mut self) -> Result<Vec<ShellElement>, ModelError> {
+        let mut seen: HashMap<ElementId, usize> = HashMap::new();
+        let mut out = Vec::with_capacity(self.model.shells.len());
+        for (i, e) in self.model.shells.iter().enumerate() {
+            let at = format!("shells[{i}]");
+            if let Some(first) = seen.get(&e.id) {
+                return Err(ModelError::Duplicate {
+                    at,
+                    kind: "shell",
+                    id: e.id.to_string(),
+                    first: format!("shells[{first}]"),
+                    key: "id",
+                });
+            }
+            seen.insert(e.id, i);
+            let named = format!("{at} (shell {})", e.id);
+            if !(e.nodes.len() == 3 || e.nodes.len() == 4) {
+                return Err(ModelError::Invalid {
+                    at: format!("{named}.nodes"),
+                    message: format!("a shell has 3 (triangle) or 4 (quadrilateral) nodes, not {}", e.nodes.len()),
+                });
+            }
+            let mut nodes = Vec::with_capacity(e.nodes.len());
+            for (k, id) in e.nodes.iter().enumerate() {
+                let idx = *self.node_index.get(id).ok_or_else(|| ModelError::UnknownNode {
+                    at: format!("{named}.nodes[{k}]"),
+                    id: id.0,
+                    hint: self.node_ids_hint(),
+                })?;
+                if nodes.contains(&idx) {
+                    return Err(ModelError::Invalid {
+                        at: format!("{named}.nodes"),
+                        message: format!("node {id} appears twice; give distinct corner nodes"),
+                    });
+                }
+                nodes.push(idx);
+            }
+            check_positive(&named, "thickness", e.thickness)?;
+            let material = self.material(&format!("{named}.material"), &e.material)?;
+            let xyz: Vec<[f64; 3]> = nodes.iter().map(|&n| self.nodes[n].xyz).collect();
+            let shape = shell_shape(&xyz)
+                .map_err(|d| ModelError::Invalid { at: named.clone(), message: format!("unusable shape: {d}") })?;
+            out.push(ShellElement {
+                id: e.id,
+                label: format!("shell {}", e.id),
+                nodes,
+                thickness: e.thickness,
+                material_name: e.material.clone(),
+                material,
+                shape,
             });
+        }
+        out.append(&mut self.generated_shells);
+        Ok(out)
+    }
+
+    /// Resolves a location to the nodes it stands for where a set of nodes makes sense (supports,
+    /// springs to ground): every node of a region, otherwise the one node of [`Self::locate`].
+    fn locate_set(&mut self, at: &str, loc: &Location) -> Result<Vec<usize>, ModelError> {
+        match &loc.region {
+            Some(name) if self.location_form_count(loc) == 1 => {
+                Ok(self.region(&format!("{at}.region"), name)?.to_vec())
+            }
+            _ => Ok(vec![self.locate(at, loc)?]),
+        }
+    }
+
+    fn location_form_count(&self, loc: &Location) -> usize {
+        [loc.node.is_some(), loc.xyz.is_some(), loc.line.is_some(), loc.tube.is_some(), loc.region.is_some()]
+            .iter()
+            .filter(|&&f| f)
+            .count()
+    }
+
+    /// Resolves a location to one node index (a region: its node nearest the centroid).
+    fn locate(&mut self, at: &str, loc: &Location) -> Result<usize, ModelError> {
+        let forms = self.location_form_count(loc);
+        if forms != 1 {
+            let message = if forms == 0 && loc.at.is_some() {
+                "a fraction \"at\" needs \"line\" or \"tube\": {\"line\": name, \"at\": fraction}".to_string()
+            } else {
+                "give exactly one of {\"node\": id}, {\"xyz\": [x, y, z]}, {\"line\": name, \"at\": fraction}, \
+                 {\"tube\": name, \"at\": fraction} or {\"region\": name}"
+                    .to_string()
+            };
+            return Err(ModelError::Invalid { at: at.to_string(), message });
         }
         if loc.tolerance.is_some() && loc.xyz.is_none() {
             return Err(ModelError::Invalid {
                 at: at.to_string(),
                 message: "tolerance applies only to an xyz location".into(),
+            });
+        }
+        if loc.at.is_some() && loc.line.is_none() && loc.tube.is_none() {
+            return Err(ModelError::Invalid {
+                at: at.to_string(),
+                message: "\"at\" (a fraction) applies only to a line or tube location".into(),
             });
         }
         if let Some(id) = loc.node {
@@ -488,6 +828,29 @@ impl<'a> Builder<'a> {
                 None => self.snap_tolerance(),
             };
             return self.snap(at, p, tol);
+        }
+        if let Some(name) = &loc.region {
+            let nodes = self.region(&format!("{at}.region"), name)?;
+            return Ok(self.centroid_node(nodes));
+        }
+        if let Some(name) = &loc.tube {
+            let Some(frac) = loc.at else {
+                return Err(ModelError::Invalid {
+                    at: at.to_string(),
+                    message: "a tube location needs both \"tube\" and \"at\" (a fraction of its length)".into(),
+                });
+            };
+            check_fraction(at, "at", frac)?;
+            let t = &self.tubes[self.tube(&format!("{at}.tube"), name)?];
+            let j = t.nearest_station(frac);
+            let actual = t.fractions[j];
+            let node = t.rings[j][0];
+            if (actual - frac).abs() > 1e-6 {
+                self.warnings.push(format!(
+                    "{at}: tube \"{name}\" at {frac} is between stations; using its station at {actual:.4} of the length"
+                ));
+            }
+            return Ok(node);
         }
         let (Some(name), Some(frac)) = (&loc.line, loc.at) else {
             return Err(ModelError::Invalid {
@@ -544,10 +907,15 @@ impl<'a> Builder<'a> {
 
     fn supports(&mut self) -> Result<Vec<[bool; 6]>, ModelError> {
         let mut fixed = vec![[false; 6]; self.nodes.len()];
+        for &(n, f) in &self.generated_fixed {
+            for d in 0..6 {
+                fixed[n][d] |= f[d];
+            }
+        }
         let model = self.model;
         for (i, s) in model.supports.iter().enumerate() {
             let at = format!("supports[{i}]");
-            let node = self.locate(&format!("{at}.at"), &s.at)?;
+            let nodes = self.locate_set(&format!("{at}.at"), &s.at)?;
             let dofs: Vec<usize> = match &s.fixed {
                 Fixity::Preset(FixityPreset::Clamped) => (0..6).collect(),
                 Fixity::Preset(FixityPreset::Pinned) => (0..3).collect(),
@@ -561,22 +929,33 @@ impl<'a> Builder<'a> {
                     list.iter().map(|d| d.index()).collect()
                 }
             };
-            for d in dofs {
-                fixed[node][d] = true;
+            for &node in &nodes {
+                for &d in &dofs {
+                    fixed[node][d] = true;
+                }
             }
         }
         Ok(fixed)
     }
 
     fn springs(&mut self) -> Result<Vec<SpringElement>, ModelError> {
-        let mut out = Vec::new();
+        let mut out = std::mem::take(&mut self.generated_springs);
         let model = self.model;
         for (i, s) in model.springs.iter().enumerate() {
             let at = format!("springs[{i}]");
-            let node = self.locate(&format!("{at}.at"), &s.at)?;
+            let nodes = self.locate_set(&format!("{at}.at"), &s.at)?;
+            let node = nodes[0];
             let other = match &s.to {
                 None | Some(SpringEnd::Ground(_)) => None,
                 Some(SpringEnd::Location(l)) => {
+                    if nodes.len() > 1 {
+                        return Err(ModelError::Invalid {
+                            at: format!("{at}.to"),
+                            message: "a spring at a region is one spring to ground per node of the region; \
+                                      remove \"to\" or give \"at\" as one node"
+                                .into(),
+                        });
+                    }
                     let o = self.locate(&format!("{at}.to"), l)?;
                     if o == node {
                         return Err(ModelError::Invalid {
@@ -608,7 +987,7 @@ impl<'a> Builder<'a> {
                     message: "give at least one positive stiffness (ux, uy, uz, rx, ry or rz)".into(),
                 });
             }
-            out.push(SpringElement { label: at, node, other, stiffness: k });
+            out.extend(nodes.into_iter().map(|node| SpringElement { label: at.clone(), node, other, stiffness: k }));
         }
         Ok(out)
     }
@@ -823,12 +1202,22 @@ impl<'a> Builder<'a> {
     }
 
     fn candidate_nodes(&mut self, at: &str, c: &CandidateSet) -> Result<Vec<usize>, ModelError> {
-        let forms = [c.line.is_some() || c.from.is_some() || c.to.is_some(), c.node.is_some(), c.xyz.is_some()];
+        let forms = [
+            c.line.is_some() || c.from.is_some() || c.to.is_some(),
+            c.node.is_some(),
+            c.xyz.is_some(),
+            c.region.is_some(),
+        ];
         if forms.iter().filter(|&&f| f).count() != 1 {
             return Err(ModelError::Invalid {
                 at: at.to_string(),
-                message: "give exactly one of {\"line\": name, \"from\": a, \"to\": b}, {\"node\": id} or {\"xyz\": [x, y, z]}".into(),
+                message: "give exactly one of {\"line\": name, \"from\": a, \"to\": b}, {\"node\": id}, \
+                          {\"xyz\": [x, y, z]} or {\"region\": name}"
+                    .into(),
             });
+        }
+        if let Some(name) = &c.region {
+            return Ok(self.region(&format!("{at}.region"), name)?.to_vec());
         }
         if let Some(id) = c.node {
             let loc = Location::node(id);
@@ -861,6 +1250,22 @@ impl<'a> Builder<'a> {
             .map(|k| l.nodes[k])
             .collect())
     }
+}
+
+/// Corners of a tube's bounding box (finite inputs only matter: the caller drops the rest).
+fn tube_extent(t: &crate::model::Tube) -> Vec<[f64; 3]> {
+    let s = t.start.unwrap_or([0.0; 3]);
+    let a = t.axis.unwrap_or([1.0, 0.0, 0.0]);
+    let n = norm(a);
+    let e = [s[0] + t.length * a[0] / n, s[1] + t.length * a[1] / n, s[2] + t.length * a[2] / n];
+    let r = t.segments.iter().filter_map(|g| g.outer_diameter).fold(t.outer_diameter, f64::max) / 2.0;
+    [s, e].iter().flat_map(|p| [p.map(|v| v - r), p.map(|v| v + r)]).collect()
+}
+
+/// Corners of a panel.
+fn panel_extent(p: &crate::model::Panel) -> Vec<[f64; 3]> {
+    let o = p.origin.unwrap_or([0.0; 3]);
+    vec![o, [o[0] + p.size[0], o[1] + p.size[1], o[2]]]
 }
 
 fn check_section(at: &str, s: &Section) -> Result<(), ModelError> {
@@ -920,9 +1325,149 @@ fn check_section(at: &str, s: &Section) -> Result<(), ModelError> {
     }
 }
 
+/// Makes shell normals agree across shared edges: two neighbours agree when they run along their
+/// common edge in opposite directions. Each connected patch keeps the node order of its first
+/// shell; the others are reversed where needed (a-b-c-d becomes a-d-c-b, the same element with the
+/// normal flipped). Edges shared by more than two shells (T-joints) do not propagate orientation.
+/// Warnings name the reversed shells and any patch that cannot be oriented (a one-sided surface).
+fn orient_shells(s: &mut Structure) {
+    let n = s.shells.len();
+    if n == 0 {
+        return;
+    }
+    let mut edges: HashMap<(usize, usize), Vec<usize>> = HashMap::new();
+    for (i, e) in s.shells.iter().enumerate() {
+        let k = e.nodes.len();
+        for j in 0..k {
+            let (a, b) = (e.nodes[j], e.nodes[(j + 1) % k]);
+            edges.entry((a.min(b), a.max(b))).or_default().push(i);
+        }
+    }
+    // Direction in which shell `i` runs along edge {a, b}: true for a → b.
+    let runs = |e: &ShellElement, a: usize, b: usize| {
+        let k = e.nodes.len();
+        (0..k).any(|j| e.nodes[j] == a && e.nodes[(j + 1) % k] == b)
+    };
+    let mut flip = vec![false; n];
+    let mut done = vec![false; n];
+    let mut conflicts = 0usize;
+    for start in 0..n {
+        if done[start] {
+            continue;
+        }
+        done[start] = true;
+        let mut stack = vec![start];
+        while let Some(i) = stack.pop() {
+            let e = &s.shells[i];
+            let k = e.nodes.len();
+            for j in 0..k {
+                let (a, b) = (e.nodes[j], e.nodes[(j + 1) % k]);
+                let Some(list) = edges.get(&(a.min(b), a.max(b))) else { continue };
+                if list.len() != 2 {
+                    continue;
+                }
+                let other = if list[0] == i { list[1] } else { list[0] };
+                // After flips, i runs a → b iff (not flip[i]); the neighbour must run b → a.
+                let i_forward = !flip[i];
+                let other_forward_as_given = runs(&s.shells[other], a, b);
+                let needs_flip = other_forward_as_given == i_forward;
+                if done[other] {
+                    if flip[other] != needs_flip {
+                        conflicts += 1;
+                    }
+                    continue;
+                }
+                flip[other] = needs_flip;
+                done[other] = true;
+                stack.push(other);
+            }
+        }
+    }
+    let mut reversed = Vec::new();
+    for (i, e) in s.shells.iter_mut().enumerate() {
+        if flip[i] {
+            e.nodes[1..].reverse();
+            e.shape.normal = e.shape.normal.map(|v| -v);
+            reversed.push(e.id.to_string());
+        }
+    }
+    if !reversed.is_empty() {
+        let shown: Vec<&str> = reversed.iter().take(10).map(String::as_str).collect();
+        s.warnings.push(format!(
+            "{} shell(s) had their node order reversed so that their normals agree with their neighbours: {}{}",
+            reversed.len(),
+            shown.join(", "),
+            if reversed.len() > 10 { ", ..." } else { "" }
+        ));
+    }
+    if conflicts > 0 {
+        s.warnings.push(format!(
+            "shell normals cannot be made consistent on {} edge(s): the surface is one-sided (like a Möbius strip); \
+             results are valid, but directions normal to the wall are not uniform",
+            conflicts.div_ceil(2)
+        ));
+    }
+}
+
+/// Warnings about distorted shells and shells too thick for thin-shell theory, one line per
+/// measure naming the worst elements.
+fn add_shell_quality_warnings(s: &mut Structure) {
+    type Measure = (&'static str, fn(&ShellElement) -> f64, fn(f64) -> bool, String);
+    let measures: [Measure; 5] = [
+        (
+            "aspect ratio",
+            |e| e.shape.aspect_ratio,
+            |v| v > ASPECT_RATIO_WARNING,
+            format!("above {ASPECT_RATIO_WARNING}"),
+        ),
+        (
+            "warp",
+            |e| e.shape.warp_deg,
+            |v| v > WARP_WARNING_DEG,
+            format!("above {WARP_WARNING_DEG}° (projected to the mean plane)"),
+        ),
+        ("skew", |e| e.shape.skew_deg, |v| v > SKEW_WARNING_DEG, format!("above {SKEW_WARNING_DEG}°")),
+        (
+            "Jacobian ratio",
+            |e| e.shape.jacobian_ratio,
+            |v| v < JACOBIAN_RATIO_WARNING,
+            format!("below {JACOBIAN_RATIO_WARNING}"),
+        ),
+        (
+            "thickness / shortest side",
+            |e| e.thickness / e.shape.shortest_side,
+            |v| v > 1.0,
+            "above 1: thinner than its size is what a flat thin-shell element assumes".into(),
+        ),
+    ];
+    for (name, value, bad, limit) in measures {
+        let mut hits: Vec<(f64, String)> =
+            s.shells.iter().map(|e| (value(e), e.label.clone())).filter(|(v, _)| bad(*v)).collect();
+        if hits.is_empty() {
+            continue;
+        }
+        hits.sort_by(|a, b| b.0.total_cmp(&a.0));
+        if name == "Jacobian ratio" {
+            hits.reverse();
+        }
+        let shown: Vec<String> = hits.iter().take(5).map(|(v, l)| format!("{l} ({v:.3})")).collect();
+        s.warnings.push(format!(
+            "{} shell(s) with {name} {limit}: {}{}",
+            hits.len(),
+            shown.join(", "),
+            if hits.len() > 5 { ", ..." } else { "" }
+        ));
+    }
+}
+
 /// Warnings about nodes that nothing uses and members too stocky for Euler–Bernoulli theory.
 fn add_connectivity_warnings(s: &mut Structure) {
     let mut used = vec![false; s.nodes.len()];
+    for e in &s.shells {
+        for &n in &e.nodes {
+            used[n] = true;
+        }
+    }
     for b in &s.beams {
         used[b.nodes[0]] = true;
         used[b.nodes[1]] = true;
@@ -1016,5 +1561,180 @@ impl PointGrid {
             }
         }
         best
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::io::parse_model;
+
+    /// A strip of three unit squares along X; `middle` gives the node order of the middle one.
+    fn strip(middle: &str) -> Result<Structure, ModelError> {
+        let text = format!(
+            r#"{{
+            "materials": {{"s": {{"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}}}},
+            "nodes": [{{"id": 1, "xyz": [0,0,0]}}, {{"id": 2, "xyz": [1,0,0]}}, {{"id": 3, "xyz": [2,0,0]}},
+                      {{"id": 4, "xyz": [3,0,0]}}, {{"id": 5, "xyz": [0,1,0]}}, {{"id": 6, "xyz": [1,1,0]}},
+                      {{"id": 7, "xyz": [2,1,0]}}, {{"id": 8, "xyz": [3,1,0]}}],
+            "shells": [{{"id": 1, "nodes": [1, 2, 6, 5], "thickness": 0.01, "material": "s"}},
+                       {{"id": 2, "nodes": {middle}, "thickness": 0.01, "material": "s"}},
+                       {{"id": 3, "nodes": [3, 4, 8, 7], "thickness": 0.01, "material": "s"}}]
+        }}"#
+        );
+        validate(&parse_model(&text, std::path::Path::new("t.json"))?)
+    }
+
+    #[test]
+    fn shell_normals_are_made_consistent_and_reported() {
+        let Ok(s) = strip("[2, 3, 7, 6]") else { panic!("valid strip") };
+        assert!(s.shells.iter().all(|e| e.shape.normal == [0.0, 0.0, 1.0]));
+        assert!(!s.warnings.iter().any(|w| w.contains("reversed")), "{:?}", s.warnings);
+        // The middle shell given clockwise: reversed to agree with its neighbours, and reported.
+        let Ok(s) = strip("[2, 6, 7, 3]") else { panic!("valid strip") };
+        assert_eq!(s.shells[1].nodes, vec![1, 2, 6, 5], "node indices of shell 2 after reversal");
+        assert!(s.shells.iter().all(|e| e.shape.normal == [0.0, 0.0, 1.0]));
+        assert!(s.warnings.iter().any(|w| w.contains("1 shell(s) had their node order reversed") && w.contains('2')));
+    }
+
+    /// A shell tube (8 around, 4 along, 1 m along X) on a pinned start ring, with `extra` JSON
+    /// fields added to the model.
+    fn shell_tube(extra: &str) -> Result<Structure, ModelError> {
+        let text = format!(
+            r#"{{
+            "materials": {{"s": {{"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}}}},
+            "tubes": [{{"name": "t", "length": 1, "outer_diameter": 0.1, "wall_thickness": 0.002, "material": "s",
+                        "fidelity": "shell", "around": 8, "along": 4, "ends": {{"start": "pinned"}}}}],
+            "regions": {{"top": {{"tube": "t", "from": 0.5, "to": 1, "angle_deg": [90, 90]}},
+                         "end": {{"tube": "t", "ring": "end"}}}}
+            {extra}
+        }}"#
+        );
+        validate(&parse_model(&text, std::path::Path::new("t.json"))?)
+    }
+
+    #[test]
+    fn region_locations_resolve_to_sets_or_to_the_node_nearest_the_centroid() {
+        let s = shell_tube(
+            r#", "supports": [{"at": {"region": "end"}, "fixed": ["ux"]}],
+                "springs": [{"at": {"region": "end"}, "stiffness": {"uz": 100}}],
+                "point_masses": [{"at": {"region": "top"}, "mass": 1}, {"at": {"region": "end"}, "mass": 2}],
+                "study": {"band_hz": [1, 100],
+                          "excitation": [{"at": {"tube": "t", "at": 0.5}, "direction": "z", "amplitude": 1}],
+                          "response_points": [{"at": {"tube": "t", "at": 0.6}, "direction": "z"}],
+                          "absorber_design": {"mass_each": 0.1, "candidates": [{"region": "top"}], "directions": ["z"]}}"#,
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        let end = &s.regions["end"];
+        assert_eq!(end.len(), 8);
+        // Supports fix every node of a region; the pinned start ring comes from the tube's ends.
+        assert!(end.iter().all(|&n| s.fixed[n] == [true, false, false, false, false, false]));
+        assert_eq!(s.fixed.iter().filter(|f| f[0] && f[1] && f[2]).count(), 8, "pinned start ring");
+        // One spring to ground per node of the region, each with the full stiffness.
+        assert_eq!(s.springs.len(), 8);
+        assert!(s.springs.iter().all(|sp| end.contains(&sp.node) && sp.stiffness[2] == 100.0 && sp.other.is_none()));
+        // One node: the top line's nodes at 0.5, 0.75, 1 → the middle one; the end ring's centroid
+        // is on the axis, equally far from all 8 → the first (angle 0, at +Y).
+        let top = &s.regions["top"];
+        assert_eq!(top.len(), 3);
+        assert_eq!(s.point_masses[0].node, top[1]);
+        let p = s.nodes[s.point_masses[0].node].xyz;
+        assert!((p[0] - 0.75).abs() < 1e-12 && (p[2] - 0.049).abs() < 1e-12, "{p:?}");
+        assert_eq!(s.point_masses[1].node, end[0]);
+        let p = s.nodes[end[0]].xyz;
+        assert!((p[1] - 0.049).abs() < 1e-12 && p[2].abs() < 1e-12, "{p:?}");
+        // A tube location: the ring nearest the fraction, its node at angle 0; 0.6 is between
+        // stations (0.5 and 0.75) and warned about.
+        let study = s.study.as_ref().unwrap_or_else(|| panic!("study"));
+        let at = s.nodes[study.excitation[0].node].xyz;
+        assert!((at[0] - 0.5).abs() < 1e-12 && (at[1] - 0.049).abs() < 1e-12, "{at:?}");
+        assert!(s.warnings.iter().any(|w| w.contains("response_points[0].at") && w.contains("between stations")));
+        let design = study.design.as_ref().unwrap_or_else(|| panic!("design"));
+        assert_eq!(&design.candidates, top, "every node of the region is a candidate");
+    }
+
+    #[test]
+    fn region_location_errors() {
+        let e =
+            shell_tube(r#", "point_masses": [{"at": {"region": "nowhere"}, "mass": 1}]"#).err().map(|e| e.to_string());
+        let e = e.unwrap_or_default();
+        assert!(e.contains("point_masses[0].at.region") && e.contains("region \"nowhere\" is not defined"), "{e}");
+        let e = shell_tube(r#", "springs": [{"at": {"region": "end"}, "to": {"node": 1}, "stiffness": {"uz": 1}}]"#)
+            .err()
+            .map(|e| e.to_string())
+            .unwrap_or_default();
+        assert!(e.contains("springs[0].to") && e.contains("one spring to ground per node"), "{e}");
+        let e = shell_tube(r#", "point_masses": [{"at": {"region": "end", "node": 1}, "mass": 1}]"#)
+            .err()
+            .map(|e| e.to_string())
+            .unwrap_or_default();
+        assert!(e.contains("give exactly one of"), "{e}");
+        let e = shell_tube(r#", "point_masses": [{"at": {"tube": "t"}, "mass": 1}]"#).err().map(|e| e.to_string());
+        assert!(e.unwrap_or_default().contains("needs both \"tube\" and \"at\""));
+        let e = shell_tube(r#", "point_masses": [{"at": {"tube": "u", "at": 0.5}, "mass": 1}]"#)
+            .err()
+            .map(|e| e.to_string());
+        assert!(e.unwrap_or_default().contains("tube \"u\" is not defined"));
+    }
+
+    #[test]
+    fn generated_ids_follow_the_explicit_ones_and_coincident_nodes_join() {
+        // A beam tube whose start coincides with explicit node 7 and a panel whose corner is the
+        // tube's end.
+        let text = r#"{
+            "materials": {"s": {"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}},
+            "nodes": [{"id": 7, "xyz": [0, 0, 0]}],
+            "tubes": [{"name": "t", "length": 1, "outer_diameter": 0.1, "wall_thickness": 0.002, "material": "s",
+                       "along": 4}],
+            "panels": [{"name": "p", "size": [0.5, 0.5], "thickness": 0.002, "material": "s", "origin": [1, 0, 0],
+                        "divisions": [2, 2]}]
+        }"#;
+        let s = validate(&parse_model(text, std::path::Path::new("t.json")).unwrap_or_else(|e| panic!("{e}")))
+            .unwrap_or_else(|e| panic!("{e}"));
+        // 1 explicit + 4 new tube nodes + 9 panel nodes, one of which is the tube's end.
+        assert_eq!(s.nodes.len(), 1 + 4 + 8);
+        assert_eq!(s.tubes[0].rings[0], vec![0], "the tube starts at explicit node 7");
+        assert_eq!(s.nodes[1].id, NodeId(8), "generated ids after the largest explicit id");
+        assert_eq!(s.panels[0].node(0, 0), s.tubes[0].rings[4][0], "the panel corner joins the tube's end");
+        assert_eq!(s.beams.len(), 4);
+        assert_eq!(s.beams[0].label, "tube \"t\" element 1");
+        assert_eq!(s.shells.len(), 4);
+        assert_eq!(s.shells[0].id, ElementId(1));
+        let (_, parts) = s.parts();
+        assert_eq!(parts, 1, "tube and panel are one part");
+    }
+
+    #[test]
+    fn one_sided_surface_is_reported() {
+        // A Möbius strip of 12 quads: no consistent orientation exists.
+        let n = 12;
+        let mut nodes = String::new();
+        for k in 0..n {
+            let t = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
+            for (j, w) in [-0.2f64, 0.2].iter().enumerate() {
+                let r = 1.0 + w * (t / 2.0).cos();
+                let p = [r * t.cos(), r * t.sin(), w * (t / 2.0).sin()];
+                nodes.push_str(&format!(r#"{{"id": {}, "xyz": [{}, {}, {}]}},"#, 2 * k + j + 1, p[0], p[1], p[2]));
+            }
+        }
+        nodes.pop();
+        let mut shells = String::new();
+        for k in 0..n {
+            let (a, b) = (2 * k + 1, 2 * k + 2);
+            // The last quad joins the strip to its own start with the two edges swapped.
+            let (c, d) = if k + 1 < n { (2 * k + 4, 2 * k + 3) } else { (1, 2) };
+            shells.push_str(&format!(
+                r#"{{"id": {}, "nodes": [{a}, {c}, {d}, {b}], "thickness": 0.01, "material": "s"}},"#,
+                k + 1
+            ));
+        }
+        shells.pop();
+        let text = format!(
+            r#"{{"materials": {{"s": {{"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}}}},
+                "nodes": [{nodes}], "shells": [{shells}]}}"#
+        );
+        let s = parse_model(&text, std::path::Path::new("t.json")).and_then(|m| validate(&m));
+        let Ok(s) = s else { panic!("a Möbius strip is a valid model: {s:?}") };
+        assert!(s.warnings.iter().any(|w| w.contains("one-sided")), "{:?}", s.warnings);
     }
 }

@@ -1,8 +1,9 @@
 //! VTK XML unstructured-grid (`.vtu`) output of a structure with nodal fields (mode shapes).
 //!
-//! Cells: beams and node-to-node springs as lines; point masses and absorbers as vertices at their
-//! node. Cell data: `kind` (1 beam, 2 spring, 3 point mass, 4 absorber), `line` (1-based line index,
-//! 0 for other cells) and `id` (beam id, or position in its list). Data are written uncompressed
+//! Cells: beams and node-to-node springs as lines; shells as quads and triangles; point masses and
+//! absorbers as vertices at their node. Cell data: `kind` (1 beam, 2 spring, 3 point mass,
+//! 4 absorber, 5 shell), `line` (1-based line index, 0 for other cells), `id` (beam or shell id, or
+//! position in its list) and `thickness` (shell wall thickness in m, 0 for other cells). Data are written uncompressed
 //! (inline base64), which every VTK reader accepts.
 
 use std::path::Path;
@@ -44,6 +45,8 @@ pub mod kind {
     pub const POINT_MASS: i32 = 3;
     /// A tuned absorber.
     pub const ABSORBER: i32 = 4;
+    /// A shell element (quadrilateral or triangle).
+    pub const SHELL: i32 = 5;
 }
 
 /// Builds the VTK document of `structure` with the given nodal fields.
@@ -75,6 +78,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
     let mut kinds: Vec<i32> = Vec::new();
     let mut lines: Vec<i32> = Vec::new();
     let mut ids: Vec<i64> = Vec::new();
+    let mut thickness: Vec<f64> = Vec::new();
     for b in &structure.beams {
         conn.extend([b.nodes[0] as u64, b.nodes[1] as u64]);
         offsets.push(conn.len() as u64);
@@ -82,6 +86,16 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         kinds.push(kind::BEAM);
         lines.push(b.line.map_or(0, |l| l as i32 + 1));
         ids.push(b.id.0 as i64);
+        thickness.push(0.0);
+    }
+    for e in &structure.shells {
+        conn.extend(e.nodes.iter().map(|&n| n as u64));
+        offsets.push(conn.len() as u64);
+        types.push(if e.nodes.len() == 4 { CellType::Quad } else { CellType::Triangle });
+        kinds.push(kind::SHELL);
+        lines.push(0);
+        ids.push(e.id.0 as i64);
+        thickness.push(e.thickness);
     }
     for (i, s) in structure.springs.iter().enumerate() {
         if let Some(o) = s.other {
@@ -91,6 +105,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
             kinds.push(kind::SPRING);
             lines.push(0);
             ids.push(i as i64 + 1);
+            thickness.push(0.0);
         }
     }
     for (i, p) in structure.point_masses.iter().enumerate() {
@@ -100,6 +115,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         kinds.push(kind::POINT_MASS);
         lines.push(0);
         ids.push(i as i64 + 1);
+        thickness.push(0.0);
     }
     for (i, a) in structure.absorbers.iter().enumerate() {
         conn.push(a.node as u64);
@@ -108,6 +124,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         kinds.push(kind::ABSORBER);
         lines.push(0);
         ids.push(i as i64 + 1);
+        thickness.push(0.0);
     }
     let mut point_data = Vec::new();
     for v in vectors {
@@ -124,6 +141,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         Attribute::scalars("kind", 1).with_data(kinds),
         Attribute::scalars("line", 1).with_data(lines),
         Attribute::scalars("id", 1).with_data(ids),
+        Attribute::scalars("thickness", 1).with_data(thickness),
     ];
     Ok(Vtk {
         version: Version::new((1, 0)),
@@ -195,5 +213,32 @@ mod tests {
             .collect();
         assert_eq!(names, vec!["mode_1".to_string()]);
         std::fs::remove_dir_all(&dir).ok();
+    }
+
+    #[test]
+    fn shells_become_quad_and_triangle_cells_with_their_thickness() {
+        let text = r#"{
+            "materials": {"s": {"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}},
+            "nodes": [{"id": 1, "xyz": [0,0,0]}, {"id": 2, "xyz": [1,0,0]}, {"id": 3, "xyz": [1,1,0]},
+                      {"id": 4, "xyz": [0,1,0]}, {"id": 5, "xyz": [2,0.5,0]}],
+            "shells": [{"id": 7, "nodes": [1, 2, 3, 4], "thickness": 0.002, "material": "s"},
+                       {"id": 8, "nodes": [2, 5, 3], "thickness": 0.003, "material": "s"}]
+        }"#;
+        let s = parse_model(text, Path::new("t.json")).ok().and_then(|m| validate(&m).ok());
+        let Some(s) = s else { panic!("test model must be valid") };
+        let vtk = build_vtu(&s, &[], &[]);
+        let Ok(Vtk { data: DataSet::UnstructuredGrid { pieces, .. }, .. }) = vtk else {
+            panic!("an unstructured grid")
+        };
+        let Some(vtkio::model::Piece::Inline(piece)) = pieces.into_iter().next() else { panic!("inline piece") };
+        assert_eq!(piece.cells.types, vec![CellType::Quad, CellType::Triangle]);
+        let VertexNumbers::XML { connectivity, offsets } = &piece.cells.cell_verts else { panic!("XML cells") };
+        assert_eq!(connectivity, &vec![0, 1, 2, 3, 1, 4, 2]);
+        assert_eq!(offsets, &vec![4, 7]);
+        let thickness = piece.data.cell.iter().find_map(|a| match a {
+            Attribute::DataArray(d) if d.name == "thickness" => Some(d.data.clone()),
+            _ => None,
+        });
+        assert_eq!(thickness, Some(IOBuffer::F64(vec![0.002, 0.003])));
     }
 }

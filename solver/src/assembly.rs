@@ -14,6 +14,8 @@ use rayon::prelude::*;
 use crate::dofs::{DofMap, DofOwner};
 use crate::element::beam::{MassKind, global_matrices};
 use crate::element::point_mass::point_mass;
+use crate::element::shell_quad::quad_matrices;
+use crate::element::shell_tri::tri_matrices;
 use crate::element::spring::link_stiffness;
 use crate::error::SolverError;
 use crate::factor::Factorizer;
@@ -35,6 +37,8 @@ pub struct System {
     /// Position in K's value array of each of M's stored values (M's pattern is inside K's).
     pub(crate) m_in_k: Vec<usize>,
     pub(crate) factorizer: Factorizer,
+    /// Wall time of the symbolic analysis (fill-reducing orderings), in s.
+    analysis_seconds: f64,
     pub(crate) node_xyz: Vec<[f64; 3]>,
     pub(crate) absorber_directions: Vec<[f64; 3]>,
     /// Inertia load of a unit rigid translation of everything, supports included, along X, Y, Z:
@@ -78,10 +82,7 @@ impl Block {
 
 fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
     let b = &s.beams[i];
-    let kind = match s.mass_matrix {
-        MassMatrix::Consistent => MassKind::Consistent,
-        MassMatrix::Lumped => MassKind::Lumped,
-    };
+    let kind = mass_kind(s);
     let (k, m) =
         global_matrices(s.nodes[b.nodes[0]].xyz, s.nodes[b.nodes[1]].xyz, b.orientation, &b.section, &b.material, kind);
     let mut block = Block::on_nodes(b.label.clone(), dofs, &b.nodes);
@@ -92,6 +93,29 @@ fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
         }
     }
     block
+}
+
+fn mass_kind(s: &Structure) -> MassKind {
+    match s.mass_matrix {
+        MassMatrix::Consistent => MassKind::Consistent,
+        MassMatrix::Lumped => MassKind::Lumped,
+    }
+}
+
+fn shell_block(s: &Structure, dofs: &DofMap, i: usize) -> Result<Block, SolverError> {
+    let e = &s.shells[i];
+    let xyz: Vec<[f64; 3]> = e.nodes.iter().map(|&n| s.nodes[n].xyz).collect();
+    let kind = mass_kind(s);
+    let matrices = match xyz.as_slice() {
+        [a, b, c, d] => quad_matrices(&[*a, *b, *c, *d], e.thickness, &e.material, kind),
+        [a, b, c] => tri_matrices(&[*a, *b, *c], e.thickness, &e.material, kind),
+        _ => return Err(SolverError::Element { element: e.label.clone(), detail: "a shell has 3 or 4 nodes".into() }),
+    }
+    .map_err(|d| SolverError::Element { element: e.label.clone(), detail: d.to_string() })?;
+    let mut block = Block::on_nodes(e.label.clone(), dofs, &e.nodes);
+    block.k = matrices.stiffness;
+    block.m = matrices.mass;
+    Ok(block)
 }
 
 fn absorber_block(a: &AbsorberSpec, dofs: &DofMap, index: usize) -> Block {
@@ -128,6 +152,9 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         return Err(SolverError::NoFreeDofs);
     }
     let mut blocks: Vec<Block> = (0..s.beams.len()).into_par_iter().map(|i| beam_block(s, &dofs, i)).collect();
+    let shells: Result<Vec<Block>, SolverError> =
+        (0..s.shells.len()).into_par_iter().map(|i| shell_block(s, &dofs, i)).collect();
+    blocks.extend(shells?);
     for sp in &s.springs {
         match sp.other {
             None => {
@@ -246,8 +273,12 @@ impl System {
         let m = SparseColMat::new_from_argsort(m_pattern, &m_argsort, &m_vals)
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass values: {e:?}") })?;
         let m_in_k = positions_in(&k, &m);
+        let t0 = std::time::Instant::now();
+        let factorizer = Factorizer::new(&pattern)?;
+        let analysis_seconds = t0.elapsed().as_secs_f64();
         let system = System {
-            factorizer: Factorizer::new(&pattern)?,
+            factorizer,
+            analysis_seconds,
             dofs,
             k,
             m,
@@ -267,6 +298,12 @@ impl System {
             });
         }
         Ok(system)
+    }
+
+    /// Wall time of the symbolic analysis done when the system was built (the fill-reducing
+    /// orderings shared by every shifted factorization), in s.
+    pub fn analysis_seconds(&self) -> f64 {
+        self.analysis_seconds
     }
 
     /// The DOF numbering.

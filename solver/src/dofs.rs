@@ -54,6 +54,11 @@ impl DofMap {
                 active[node] = [true; 6];
             }
         }
+        for e in &s.shells {
+            for &node in &e.nodes {
+                active[node] = [true; 6];
+            }
+        }
         for sp in &s.springs {
             for d in 0..6 {
                 if sp.stiffness[d] > 0.0 {

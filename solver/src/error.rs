@@ -32,6 +32,14 @@ pub enum SolverError {
         /// Which DOFs are free, in words, and how to fix it.
         detail: String,
     },
+    /// An element whose matrices cannot be built.
+    #[error("{element}: cannot build its matrices: {detail}")]
+    Element {
+        /// The element, in words (e.g. `shell 12`).
+        element: String,
+        /// What is wrong.
+        detail: String,
+    },
     /// A factorization failed.
     #[error("factorization of K - sigma M failed at sigma = {shift:e} rad^2/s^2: {detail}")]
     Factorization {

@@ -1,6 +1,8 @@
 //! Helpers shared by the reference tests.
 #![allow(dead_code)]
 
+pub mod shells;
+
 use antinode::mesh::{Structure, parse_model, validate};
 use antinode::solver::{
     AssemblyOptions, EigenParams, Method, ModalSolution, ModeRequest, System, assemble, solve_modes,

@@ -36,13 +36,19 @@ use super::symmetric::symmetric_eigen;
 pub(crate) struct Operator<'a> {
     pub system: &'a System,
     pub factor: &'a Factor,
-    /// Wall time spent in solves, in s.
-    pub solve_seconds: std::cell::Cell<f64>,
+    /// Wall time spent in solves, in s (shared: the operator is used from two threads at once
+    /// while a Sturm factorization runs beside a refinement).
+    solve_seconds: std::sync::Mutex<f64>,
 }
 
 impl<'a> Operator<'a> {
     pub fn new(system: &'a System, factor: &'a Factor) -> Self {
-        Self { system, factor, solve_seconds: std::cell::Cell::new(0.0) }
+        Self { system, factor, solve_seconds: std::sync::Mutex::new(0.0) }
+    }
+
+    /// Wall time spent in solves so far, in s.
+    pub fn solve_seconds(&self) -> f64 {
+        self.solve_seconds.lock().map(|t| *t).unwrap_or(0.0)
     }
 
     /// Op X = (K − σM)⁻¹ (M X), given MX.
@@ -50,7 +56,9 @@ impl<'a> Operator<'a> {
         let t = std::time::Instant::now();
         let mut w = mx.to_owned();
         self.factor.solve_in_place(w.as_mut());
-        self.solve_seconds.set(self.solve_seconds.get() + t.elapsed().as_secs_f64());
+        if let Ok(mut total) = self.solve_seconds.lock() {
+            *total += t.elapsed().as_secs_f64();
+        }
         w
     }
 }

@@ -3,4 +3,7 @@
 
 pub mod beam;
 pub mod point_mass;
+pub mod shell;
+pub mod shell_quad;
+pub mod shell_tri;
 pub mod spring;
