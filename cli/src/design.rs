@@ -77,8 +77,8 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     };
     let progress = Progress::new();
     progress.stage("assembling");
-    let (system, _) = assemble_checked(&l, false)?;
-    let modes = study_modes(&l, &system, &progress)?;
+    let (system, zero) = assemble_checked(&l, false)?;
+    let modes = study_modes(&l, &system, zero, &progress)?;
     progress.stage("screening and ranking candidates");
     let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
         .with_context(|| format!("in {}", path.display()))?;

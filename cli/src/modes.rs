@@ -14,7 +14,7 @@ use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::output::{Xyz, print_json, table};
-use crate::pipeline::{CAUTION, Loaded, Outputs, Progress, assemble_checked, confirm_zero_energy, load};
+use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, confirm_zero_energy, eigen_params, load};
 
 /// Where the matrices come from.
 pub enum Source {
@@ -138,21 +138,21 @@ pub fn run(o: &Options) -> Result<()> {
     let progress = Progress::new();
     progress.stage("assembling");
     let t0 = Instant::now();
-    let (loaded, system, name): (Option<Loaded>, System, PathBuf) = match &o.source {
+    let (loaded, system, name, mut params) = match &o.source {
         Source::Model(path) => {
             let l = load(path)?;
-            let (system, _) = assemble_checked(&l, o.with_absorbers)?;
-            (Some(l), system, path.clone())
+            let (system, zero) = assemble_checked(&l, o.with_absorbers)?;
+            let params = eigen_params(&l, zero);
+            (Some(l), system, path.clone(), params)
         }
         Source::Matrices { stiffness, mass } => {
             let system = system_from_matrix_market(stiffness, mass)?;
-            (None, system, stiffness.clone())
+            (None, system, stiffness.clone(), EigenParams::default())
         }
     };
     let setup_seconds = t0.elapsed().as_secs_f64();
     let req = request(o, system.n_dofs())?;
     progress.stage("computing modes");
-    let mut params = EigenParams::default();
     if let Some(p) = o.block_size {
         if p == 0 {
             bail!("--block-size must be at least 1");

@@ -36,13 +36,20 @@ pub fn assemble_checked(l: &Loaded, include_absorbers: bool) -> Result<(System, 
     Ok((system, zero))
 }
 
+/// Eigensolver settings for a checked model: the zero-energy count `zero` from
+/// [`assemble_checked`] is passed on when the supports determined it (so the solver skips
+/// re-deriving it).
+pub fn eigen_params(l: &Loaded, zero: usize) -> EigenParams {
+    EigenParams { zero_energy_modes: l.structure.expected_rigid_body_modes().map(|_| zero), ..EigenParams::default() }
+}
+
 /// Fails when `sol` holds more zero-frequency modes than the supports allow.
 pub fn confirm_zero_energy(l: &Loaded, system: &System, sol: &ModalSolution) -> Result<()> {
     antinode_solver::confirm_zero_energy(&l.structure, system, sol).with_context(|| format!("in {}", l.path.display()))
 }
 
 /// Modes for the study: every mode up to the study's `max_mode_frequency_hz`.
-pub fn study_modes(l: &Loaded, system: &System, progress: &Progress) -> Result<ModalSolution> {
+pub fn study_modes(l: &Loaded, system: &System, zero: usize, progress: &Progress) -> Result<ModalSolution> {
     let Some(study) = &l.structure.study else {
         bail!("{}: the model has no study block (band, excitation, response points)", l.path.display());
     };
@@ -50,7 +57,7 @@ pub fn study_modes(l: &Loaded, system: &System, progress: &Progress) -> Result<M
     let sol = solve_modes(
         system,
         ModeRequest::Band { low_hz: 0.0, high_hz: study.max_mode_frequency_hz },
-        &EigenParams::default(),
+        &eigen_params(l, zero),
     )
     .with_context(|| format!("modes of {}", l.path.display()))?;
     confirm_zero_energy(l, system, &sol)?;

@@ -82,11 +82,22 @@ pub struct EigenParams {
     pub seed: u64,
     /// Largest number of Lanczos restarts before giving up.
     pub max_restarts: usize,
+    /// The number of zero-frequency modes, when already established (by [`check_zero_energy`]
+    /// against the supports). A positive count skips the rank-revealing factorization of K that
+    /// otherwise decides whether a negative shift is needed. Default `None`.
+    pub zero_energy_modes: Option<usize>,
 }
 
 impl Default for EigenParams {
     fn default() -> Self {
-        Self { block_size: 4, tolerance: 1e-9, method: Method::Auto, seed: 0x5eed_a11d, max_restarts: 12 }
+        Self {
+            block_size: 4,
+            tolerance: 1e-9,
+            method: Method::Auto,
+            seed: 0x5eed_a11d,
+            max_restarts: 12,
+            zero_energy_modes: None,
+        }
     }
 }
 
@@ -470,23 +481,29 @@ fn basis_sizes(need: usize, p: usize, boost: usize) -> (usize, usize) {
 
 /// The shift-invert factor below the spectrum: σ = 0 when K is positive definite (the rank-revealing
 /// LDLᵀ of K serves directly), otherwise σ = −δ with δ small against the element eigenvalue scale
-/// (K + δM is then positive definite, and the zero-energy modes have θ = 1/δ). Returns the factor, σ
-/// and the DOFs where K has no stiffness.
+/// (K + δM is then positive definite, and the zero-energy modes have θ = 1/δ). A known positive
+/// count of zero-energy modes goes straight to the negative shift. Returns the factor, σ and the
+/// number of zero-energy modes (the known count, or the DOFs where K showed no stiffness).
 fn bottom_factor(
     system: &System,
     scale: f64,
+    known_zero: Option<usize>,
     stats: &mut SolveStats,
-) -> Result<(Factor, f64, Vec<usize>), SolverError> {
+) -> Result<(Factor, f64, usize), SolverError> {
+    if let Some(k) = known_zero.filter(|&k| k > 0) {
+        let (f, sigma) = negative_shift_factor(system, scale, stats)?;
+        return Ok((f, sigma, k));
+    }
     let t = std::time::Instant::now();
     let (factor, zero_dofs) = system.factorizer.ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
     stats.factor_seconds += t.elapsed().as_secs_f64();
     stats.factorizations += 1;
     if zero_dofs.is_empty() && factor.inertia().negative == 0 {
-        return Ok((factor, 0.0, zero_dofs));
+        return Ok((factor, 0.0, 0));
     }
     drop(factor);
     let (f, sigma) = negative_shift_factor(system, scale, stats)?;
-    Ok((f, sigma, zero_dofs))
+    Ok((f, sigma, zero_dofs.len()))
 }
 
 /// Cholesky factor of K − σM at a small negative shift σ (−1e-10 of the element eigenvalue scale,
@@ -617,11 +634,11 @@ fn solve_lanczos(system: &System, request: Plain, params: &EigenParams) -> Resul
             }
         }
     }
-    let (factor, sigma, zero_dofs) = bottom_factor(system, scale, &mut stats)?;
+    let (factor, sigma, n_zero) = bottom_factor(system, scale, params.zero_energy_modes, &mut stats)?;
     let op = Operator::new(system, &factor);
     // Zero-energy subspace by subspace iteration: θ = 1/|σ| is far above every elastic θ.
-    if !zero_dofs.is_empty() && sigma < 0.0 {
-        let z = zero_space(&op, zero_dofs.len().min(n), params.seed, &mut stats);
+    if n_zero > 0 && sigma < 0.0 {
+        let z = zero_space(&op, n_zero.min(n), params.seed, &mut stats);
         let (vals, vecs) = shift_invert_ritz(&op, sigma, z.as_ref(), &mut stats)?;
         let keep: Vec<usize> = (0..vals.len()).filter(|&i| vals[i].abs() <= 1e-3 * sigma.abs()).collect();
         let v = Mat::from_fn(n, keep.len(), |r, c| vecs[(r, keep[c])]);
