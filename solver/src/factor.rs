@@ -121,7 +121,10 @@ impl Factorizer {
     }
 
     /// Cholesky factor of `a` (positive definite). `Ok(None)` when a pivot is not positive.
-    pub fn llt(&self, a: &SparseColMat<usize, f64>) -> Result<Option<Factor>, SolverError> {
+    ///
+    /// The factorizations take `a` by value and scale it in place, so no second copy of the matrix
+    /// exists while the factor is built.
+    pub fn llt(&self, a: SparseColMat<usize, f64>) -> Result<Option<Factor>, SolverError> {
         let (scaled, scale) = scale_to_unit_diagonal(a);
         let sym = &*self.symbolic;
         let mut values = vec![0.0; sym.len_val()];
@@ -144,7 +147,7 @@ impl Factorizer {
     }
 
     /// Unpivoted LDLᵀ of `a`. `Ok(None)` on an exactly zero or non-finite pivot.
-    pub fn ldlt(&self, a: &SparseColMat<usize, f64>) -> Result<Option<Factor>, SolverError> {
+    pub fn ldlt(&self, a: SparseColMat<usize, f64>) -> Result<Option<Factor>, SolverError> {
         self.ldlt_impl(a, None)
     }
 
@@ -152,7 +155,7 @@ impl Factorizer {
     /// intranode LBLᵀ; on a simplicial symbolic factor it is an unpivoted LDLᵀ). Solves with it are
     /// more accurate than with the unpivoted LDLᵀ at shifts inside the spectrum. `Ok(None)` when the
     /// factor is not finite (the shift is on an eigenvalue).
-    pub fn lblt(&self, a: &SparseColMat<usize, f64>) -> Result<Option<Factor>, SolverError> {
+    pub fn lblt(&self, a: SparseColMat<usize, f64>) -> Result<Option<Factor>, SolverError> {
         let (scaled, scale) = scale_to_unit_diagonal(a);
         let sym = &*self.symbolic;
         let n = sym.nrows();
@@ -189,7 +192,7 @@ impl Factorizer {
     /// elimination. Returns the factor and the original DOF indices of the replaced pivots.
     pub fn ldlt_rank_revealing(
         &self,
-        a: &SparseColMat<usize, f64>,
+        a: SparseColMat<usize, f64>,
         epsilon: f64,
     ) -> Result<(Factor, Vec<usize>), SolverError> {
         let f = self.ldlt_impl(a, Some(epsilon))?.ok_or_else(|| SolverError::Factorization {
@@ -201,7 +204,7 @@ impl Factorizer {
         Ok((f, marked))
     }
 
-    fn ldlt_impl(&self, a: &SparseColMat<usize, f64>, epsilon: Option<f64>) -> Result<Option<Factor>, SolverError> {
+    fn ldlt_impl(&self, a: SparseColMat<usize, f64>, epsilon: Option<f64>) -> Result<Option<Factor>, SolverError> {
         let (scaled, scale) = scale_to_unit_diagonal(a);
         let sym = &*self.symbolic;
         let mut values = vec![0.0; sym.len_val()];
@@ -232,8 +235,8 @@ impl Factorizer {
     }
 }
 
-/// Returns S A S with S = diag(1/√|a_ii|) (1 where a_ii = 0), and the scale vector.
-fn scale_to_unit_diagonal(a: &SparseColMat<usize, f64>) -> (SparseColMat<usize, f64>, Vec<f64>) {
+/// Returns S A S with S = diag(1/√|a_ii|) (1 where a_ii = 0), scaled in place, and the scale vector.
+fn scale_to_unit_diagonal(mut a: SparseColMat<usize, f64>) -> (SparseColMat<usize, f64>, Vec<f64>) {
     let n = a.ncols();
     let mut scale = vec![1.0; n];
     {
@@ -249,15 +252,15 @@ fn scale_to_unit_diagonal(a: &SparseColMat<usize, f64>) -> (SparseColMat<usize, 
             }
         }
     }
-    let mut out = a.clone();
-    let rows: Vec<(usize, usize)> = {
-        let sym = a.symbolic();
-        (0..n).flat_map(|j| sym.row_idx_of_col_raw(j).iter().map(move |&i| (i, j))).collect()
-    };
-    for (v, (i, j)) in out.val_mut().iter_mut().zip(rows) {
-        *v *= scale[i] * scale[j];
+    {
+        let (sym, val) = a.parts_mut();
+        for j in 0..n {
+            for (p, &i) in sym.col_range(j).zip(sym.row_idx_of_col_raw(j)) {
+                val[p] *= scale[i] * scale[j];
+            }
+        }
     }
-    (out, scale)
+    (a, scale)
 }
 
 impl Factor {
@@ -1257,8 +1260,8 @@ mod tests {
         assert!(!plan.parts[0].is_empty() && !plan.parts[1].is_empty(), "the solve is split between two threads");
         let n = a.nrows();
         let factors = [
-            factorizer.llt(&a).expect("factorization").expect("positive definite"),
-            factorizer.ldlt(&a).expect("factorization").expect("non-singular"),
+            factorizer.llt(a.clone()).expect("factorization").expect("positive definite"),
+            factorizer.ldlt(a.clone()).expect("factorization").expect("non-singular"),
         ];
         for f in &factors {
             for k in [1, 3, 4, 9, 17] {

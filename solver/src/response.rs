@@ -142,7 +142,7 @@ impl ModalModel {
         let mut residual = vec![0.0; nc * nc];
         if with_residual && nc > 0 {
             let sigma = solution.shift;
-            let factor = system.factorizer.llt(&system.shifted(sigma))?.ok_or_else(|| SolverError::Factorization {
+            let factor = system.factorizer.llt(system.shifted(sigma))?.ok_or_else(|| SolverError::Factorization {
                 shift: sigma,
                 detail: "K - sigma M is not positive definite for the residual flexibility".into(),
             })?;

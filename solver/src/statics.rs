@@ -20,7 +20,7 @@ pub fn solve_static(system: &System, loads: &[(usize, [f64; 6])]) -> Result<Vec<
             }
         }
     }
-    let factor = system.factorizer.llt(&system.k)?.ok_or_else(|| SolverError::Mechanism {
+    let factor = system.factorizer.llt(system.k.clone())?.ok_or_else(|| SolverError::Mechanism {
         found: 1,
         expected: 0,
         detail: "the stiffness matrix is singular, so there is no static solution; add supports".into(),

@@ -228,7 +228,7 @@ fn eigenvalue_scale(system: &System) -> f64 {
 
 /// Zero-energy analysis of K: the free DOFs at which the rank-revealing LDLᵀ found no stiffness.
 pub(crate) fn zero_energy_dofs(system: &System) -> Result<Vec<usize>, SolverError> {
-    let (_, marked) = system.factorizer.ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
+    let (_, marked) = system.factorizer.ldlt_rank_revealing(system.k.clone(), ZERO_PIVOT)?;
     Ok(marked)
 }
 
@@ -240,7 +240,7 @@ pub(crate) fn sturm_count(system: &System, lambda: f64, stats: &mut SolveStats) 
         let a = system.shifted(s);
         stats.factorizations += 1;
         let t = std::time::Instant::now();
-        let factor = system.factorizer.ldlt(&a)?;
+        let factor = system.factorizer.ldlt(a)?;
         stats.factor_seconds += t.elapsed().as_secs_f64();
         if let Some(f) = factor {
             let inertia = f.inertia();
@@ -495,7 +495,7 @@ fn bottom_factor(
         return Ok((f, sigma, k));
     }
     let t = std::time::Instant::now();
-    let (factor, zero_dofs) = system.factorizer.ldlt_rank_revealing(&system.k, ZERO_PIVOT)?;
+    let (factor, zero_dofs) = system.factorizer.ldlt_rank_revealing(system.k.clone(), ZERO_PIVOT)?;
     stats.factor_seconds += t.elapsed().as_secs_f64();
     stats.factorizations += 1;
     if zero_dofs.is_empty() && factor.inertia().negative == 0 {
@@ -514,7 +514,7 @@ fn negative_shift_factor(system: &System, scale: f64, stats: &mut SolveStats) ->
     for _ in 0..4 {
         stats.factorizations += 1;
         let t = std::time::Instant::now();
-        let factor = system.factorizer.llt(&system.shifted(sigma))?;
+        let factor = system.factorizer.llt(system.shifted(sigma))?;
         stats.factor_seconds += t.elapsed().as_secs_f64();
         if let Some(f) = factor {
             return Ok((f, sigma));
@@ -534,7 +534,7 @@ fn interior_factor(system: &System, target: f64, stats: &mut SolveStats) -> Resu
     for attempt in 0..6 {
         stats.factorizations += 1;
         let t = std::time::Instant::now();
-        let factor = system.factorizer.lblt(&system.shifted(sigma))?;
+        let factor = system.factorizer.lblt(system.shifted(sigma))?;
         stats.factor_seconds += t.elapsed().as_secs_f64();
         if let Some(f) = factor {
             return Ok((f, sigma));
