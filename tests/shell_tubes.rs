@@ -4,7 +4,7 @@
 
 mod common;
 
-use common::shells::{Cells, TubeEnds, tube};
+use common::shells::{Cells, TubeEnds, tube, wave_number};
 use common::{assert_rel, beam_model, lowest, structure};
 
 /// Thin steel tube of the reference sheet's worked examples (§5.2, §5.3): mid-surface radius 0.1 m,
@@ -41,28 +41,6 @@ fn rayleigh_hz(n: f64, plane_strain: bool) -> f64 {
     let b = e * H.powi(3) / 12.0 / if plane_strain { 1.0 - nu * nu } else { 1.0 };
     let w2 = b / (rho * H * R.powi(4)) * n * n * (n * n - 1.0).powi(2) / (n * n + 1.0);
     w2.sqrt() / (2.0 * std::f64::consts::PI)
-}
-
-/// Dominant circumferential wave number (0 to 8) of the radial displacement on one ring of nodes
-/// (node k at angle 2πk/N about X), by a discrete Fourier transform.
-fn wave_number(ring: &[[f64; 6]]) -> usize {
-    let n = ring.len();
-    let radial: Vec<f64> = (0..n)
-        .map(|k| {
-            let th = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
-            ring[k][1] * th.cos() + ring[k][2] * th.sin()
-        })
-        .collect();
-    let power = |m: usize| {
-        let (mut c, mut s) = (0.0, 0.0);
-        for (k, u) in radial.iter().enumerate() {
-            let a = 2.0 * std::f64::consts::PI * (m * k) as f64 / n as f64;
-            c += u * a.cos();
-            s += u * a.sin();
-        }
-        c * c + s * s
-    };
-    (0..=8).max_by(|&a, &b| power(a).total_cmp(&power(b))).unwrap_or(0)
 }
 
 #[test]

@@ -173,3 +173,25 @@ pub fn tube(
     }
     serde_json::to_string(&model).expect("JSON")
 }
+
+/// Dominant circumferential wave number (0 to 8) of the radial displacement on one ring of `n`
+/// nodes at angles 2πk/n from +Y towards +Z (a tube along X), by a discrete Fourier transform.
+pub fn wave_number(ring: &[[f64; 6]]) -> usize {
+    let n = ring.len();
+    let radial: Vec<f64> = (0..n)
+        .map(|k| {
+            let th = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
+            ring[k][1] * th.cos() + ring[k][2] * th.sin()
+        })
+        .collect();
+    let power = |m: usize| {
+        let (mut c, mut s) = (0.0, 0.0);
+        for (k, u) in radial.iter().enumerate() {
+            let a = 2.0 * std::f64::consts::PI * (m * k) as f64 / n as f64;
+            c += u * a.cos();
+            s += u * a.sin();
+        }
+        c * c + s * s
+    };
+    (0..=8).max_by(|&a, &b| power(a).total_cmp(&power(b))).unwrap_or(0)
+}
