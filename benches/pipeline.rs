@@ -114,6 +114,19 @@ fn print_table(header: &[&str], rows: &[Vec<String>]) {
     println!();
 }
 
+/// Table of stages: median and minimum time, and for rows marked `true` the rate of `elements`
+/// per second at the median.
+fn stage_rate_table(elements: f64, rows: &[(String, Timing, bool)]) {
+    let rows: Vec<Vec<String>> = rows
+        .iter()
+        .map(|(name, t, rated)| {
+            let rate = if *rated { format!("{:.0}", elements / t.median.as_secs_f64()) } else { String::new() };
+            vec![name.clone(), ms(t.median), ms(t.min), rate]
+        })
+        .collect();
+    print_table(&["stage", "median [ms]", "min [ms]", "rate (median) [elements/s]"], &rows);
+}
+
 fn steel() -> Value {
     json!({"steel": {"youngs_modulus": 2.1e11, "poisson_ratio": 0.3, "density": 7850.0}})
 }
@@ -229,20 +242,14 @@ fn frame(n: usize) -> Res<()> {
         s.total_mass(),
         n
     );
-    let rate = |t: Duration| format!("{:.0}", elements / t.as_secs_f64());
-    print_table(
-        &["stage", "median [ms]", "min [ms]", "rate (median) [elements/s]"],
+    stage_rate_table(
+        elements,
         &[
-            vec!["parse JSON (`parse_model`)".into(), ms(t_parse.median), ms(t_parse.min), rate(t_parse.median)],
-            vec!["validate".into(), ms(t_validate.median), ms(t_validate.min), rate(t_validate.median)],
-            vec![
-                "assemble (K, M, symbolic factorization)".into(),
-                ms(t_assemble.median),
-                ms(t_assemble.min),
-                rate(t_assemble.median),
-            ],
-            vec!["check_zero_energy".into(), ms(t_zero.median), ms(t_zero.min), "".into()],
-            vec![format!("solve_modes, lowest {FRAME_MODES}"), ms(t_modes.median), ms(t_modes.min), "".into()],
+            ("parse JSON (`parse_model`)".into(), t_parse, true),
+            ("validate".into(), t_validate, true),
+            ("assemble (K, M, symbolic factorization)".into(), t_assemble, true),
+            ("check_zero_energy".into(), t_zero, false),
+            (format!("solve_modes, lowest {FRAME_MODES}"), t_modes, false),
         ],
     );
     print_solution(&sol);
@@ -313,32 +320,16 @@ fn tube(n: usize) -> Res<()> {
         s.total_mass(),
         n
     );
-    let rate = |t: Duration| format!("{:.0}", elements / t.as_secs_f64());
-    print_table(
-        &["stage", "median [ms]", "min [ms]", "rate (median) [elements/s]"],
+    stage_rate_table(
+        elements,
         &[
-            vec!["validate".into(), ms(t_validate.median), ms(t_validate.min), rate(t_validate.median)],
-            vec![
-                "shell element matrices only, all threads".into(),
-                ms(t_kernels.median),
-                ms(t_kernels.min),
-                rate(t_kernels.median),
-            ],
-            vec![
-                "shell element matrices only, 1 thread".into(),
-                ms(t_kernels_1.median),
-                ms(t_kernels_1.min),
-                rate(t_kernels_1.median),
-            ],
-            vec![
-                "assemble (K, M, symbolic factorization), all threads".into(),
-                ms(t_assemble.median),
-                ms(t_assemble.min),
-                rate(t_assemble.median),
-            ],
-            vec!["assemble, 1 thread".into(), ms(t_assemble_1.median), ms(t_assemble_1.min), rate(t_assemble_1.median)],
-            vec!["check_zero_energy".into(), ms(t_zero.median), ms(t_zero.min), "".into()],
-            vec![format!("solve_modes, lowest {FRAME_MODES}"), ms(t_modes.median), ms(t_modes.min), "".into()],
+            ("validate".into(), t_validate, true),
+            ("shell element matrices only, all threads".into(), t_kernels, true),
+            ("shell element matrices only, 1 thread".into(), t_kernels_1, true),
+            ("assemble (K, M, symbolic factorization), all threads".into(), t_assemble, true),
+            ("assemble, 1 thread".into(), t_assemble_1, true),
+            ("check_zero_energy".into(), t_zero, false),
+            (format!("solve_modes, lowest {FRAME_MODES}"), t_modes, false),
         ],
     );
     println!(
