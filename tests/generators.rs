@@ -27,8 +27,10 @@ fn generated_shell_tube_and_beam_tube_agree_on_the_first_bending_pair() {
         )
     };
     let (shell, zero) = hz(&tube("shell", r#""around": 32, "along": 64"#), 8);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6, "a free shell tube has six rigid-body modes");
     let (beam, zero) = hz(&tube("beam", r#""along": 100"#), 8);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6, "a free beam tube has six rigid-body modes");
     // Timoshenko beams (the default "shear_deformation": true) and the shell wall describe the same
     // bending of a long tube: within 1 %, the issue's criterion (common practice).
@@ -50,6 +52,7 @@ fn generated_long_free_tube_ovaling_lies_between_the_rayleigh_bounds() {
     );
     let s = structure(&json);
     let (sys, sol) = lowest(&s, 16);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(sol.n_zero_energy, 6);
     let ring = &s.tubes[0].rings[16];
     let waves: Vec<(usize, f64)> = (sol.n_zero_energy..sol.n_modes())
@@ -117,6 +120,7 @@ fn generated_free_panel_has_six_rigid_body_modes() {
             "panels": [{{"name": "p", "size": [1, 1], "thickness": 0.01, "material": "steel", "divisions": [16, 16]}}]}}"#
     );
     let (l, zero) = plate_lambdas(&json, 8, 0.01);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6, "three in-plane and three out-of-plane rigid motions");
     // First free-plate value λ = 13.468 (converged Ritz, reference sheet §3.2); 2 % on 16 × 16.
     assert_rel(l[6], 13.4682, 0.02, "first elastic mode of the free panel");
@@ -223,6 +227,7 @@ fn stepped_beam_tube_equals_two_lines_and_a_tube_along_z_equals_its_line() {
     assert_rel(structure(&tube).total_mass(), structure(&lines).total_mass(), 1e-12, "mass");
     let (fa, za) = hz(&tube, 14);
     let (fb, zb) = hz(&lines, 14);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!((za, zb), (6, 6), "free-free");
     for i in 6..14 {
         assert_rel(fa[i], fb[i], 1e-9, &format!("stepped tube mode {}", i + 1));

@@ -79,6 +79,7 @@ fn free_stiffened_strip_has_exactly_six_rigid_body_modes() {
     let s = structure(&stiffened_strip(false));
     let (_, sol) = lowest(&s, 8);
     // A free body: three translations and three rotations, whatever its element families.
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(sol.n_zero_energy, 6);
     assert!(sol.frequency_hz(6) > 10.0, "first elastic mode {} Hz", sol.frequency_hz(6));
 }

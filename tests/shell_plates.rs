@@ -80,6 +80,7 @@ fn cantilever_square_plate_matches_converged_ritz_values() {
 fn free_square_plate_has_six_rigid_modes_and_the_converged_elastic_values() {
     let (l, zero) = lambdas(&plate(A, A, T, STEEL, 32, 32, [Edge::Free; 4], Cells::Quads), 12);
     // Six rigid-body motions of a free shell body (three out of plane, three in plane).
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6, "zero-frequency modes of a free plate");
     // Converged Ritz elastic values (reference sheet §3.2); 1 %.
     check(&l[6..], &[13.4682, 19.5961, 24.2702, 34.8009, 34.8009, 61.0932], 0.01, "FFFF 32×32");

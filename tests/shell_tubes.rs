@@ -49,6 +49,7 @@ fn narrow_free_ring_has_the_plane_stress_ring_frequencies() {
     // grows as (n h / R)²: 1.1 % at n = 3 with 64 facets).
     let json = tube(R, 0.01, H, STEEL, 96, 1, TubeEnds::Free, Cells::Quads);
     let (_, zero) = hz(&json, 6);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6, "a free ring has six rigid-body modes");
     // Out-of-plane (flexure-torsion) ring modes interleave with the in-plane ones (the n = 2
     // out-of-plane pair lies between in-plane n = 2 and n = 3); keep the in-plane ones.
@@ -70,6 +71,7 @@ fn long_free_tube_ovaling_lies_between_the_plane_stress_and_plane_strain_values(
     // L = 1 m = 10 R, 96 facets around, 40 along.
     let json = tube(R, 1.0, H, STEEL, 96, 40, TubeEnds::Free, Cells::Quads);
     let (_, zero) = hz(&json, 6);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6);
     // The modes of nearly uniform ovaling (no axial motion) for n = 2, 3, 4, in pairs; a free tube
     // lies between the narrow-ring (plane stress) and the infinite-tube (plane strain) Rayleigh
@@ -121,6 +123,7 @@ fn tube_as_shells_and_as_beams_agree_on_the_first_bending_modes() {
     // the first ovaling (~530 Hz) and torsion (~1070 Hz) modes.
     let (r, h, l) = (0.05, 0.002, 1.5);
     let (f_shell, zero) = hz(&tube(r, l, h, STEEL, 32, 60, TubeEnds::Free, Cells::Quads), 8);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero, 6);
     let section = format!(
         r#"{{"circular_tube": {{"outer_diameter": {}, "wall_thickness": {h}, "shear_deformation": true}}}}"#,
@@ -128,6 +131,7 @@ fn tube_as_shells_and_as_beams_agree_on_the_first_bending_modes() {
     );
     let steel = r#"{"youngs_modulus": 2.1e11, "poisson_ratio": 0.3, "density": 7850}"#;
     let (f_beam, zero_beam) = hz(&beam_model(&section, 100, l, "[]", steel), 8);
+    // A free body has six rigid-body modes, three translations and three rotations (common practice).
     assert_eq!(zero_beam, 6);
     // Timoshenko beam theory and the shell model describe the same physics for a long tube
     // (L/D = 15): the first bending pair within 1 % (the issue's criterion, common practice).
