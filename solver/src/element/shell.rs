@@ -646,83 +646,29 @@ pub(crate) mod testing {
         out
     }
 
-    /// In-place lower Cholesky factor of an SPD row-major n×n matrix.
-    pub fn cholesky(a: &mut [f64], n: usize) {
-        for j in 0..n {
-            let mut d = a[j * n + j];
-            for k in 0..j {
-                d -= a[j * n + k] * a[j * n + k];
-            }
-            assert!(d > 0.0, "matrix not positive definite at pivot {j}");
-            let d = d.sqrt();
-            a[j * n + j] = d;
-            for i in j + 1..n {
-                let mut s = a[i * n + j];
-                for k in 0..j {
-                    s -= a[i * n + k] * a[j * n + k];
-                }
-                a[i * n + j] = s / d;
-            }
-            for k in j + 1..n {
-                a[j * n + k] = 0.0;
-            }
-        }
+    fn dense(a: &[f64], n: usize) -> faer::Mat<f64> {
+        faer::Mat::from_fn(n, n, |i, j| a[i * n + j])
     }
 
-    /// Solves L y = b in place (L lower, row-major).
-    fn forward(l: &[f64], n: usize, b: &mut [f64]) {
-        for i in 0..n {
-            let mut s = b[i];
-            for k in 0..i {
-                s -= l[i * n + k] * b[k];
-            }
-            b[i] = s / l[i * n + i];
-        }
-    }
-
-    /// Solves the SPD system A x = b.
+    /// Solves the SPD system A x = b (row-major A) with faer's dense Cholesky factorization.
     pub fn solve_spd(a: &[f64], n: usize, b: &[f64]) -> Vec<f64> {
-        let mut l = a.to_vec();
-        cholesky(&mut l, n);
-        let mut x = b.to_vec();
-        forward(&l, n, &mut x);
-        for i in (0..n).rev() {
-            let mut s = x[i];
-            for k in i + 1..n {
-                s -= l[k * n + i] * x[k];
-            }
-            x[i] = s / l[i * n + i];
-        }
-        x
+        use faer::linalg::solvers::Solve;
+        let llt = dense(a, n).llt(faer::Side::Lower).expect("positive definite");
+        let x = llt.solve(faer::Mat::from_fn(n, 1, |i, _| b[i]));
+        (0..n).map(|i| x[(i, 0)]).collect()
     }
 
-    /// Eigenvalues λ of K x = λ M x (ascending, in the units of K/M) through C = L⁻¹ K L⁻ᵀ.
+    /// Eigenvalues λ of K x = λ M x (ascending, in the units of K/M) through C = L⁻¹ K L⁻ᵀ with
+    /// M = L Lᵀ (faer's dense Cholesky and triangular solves).
     pub fn generalized_eigenvalues(k: &[f64], m: &[f64], n: usize) -> Vec<f64> {
-        let mut l = m.to_vec();
-        cholesky(&mut l, n);
-        // Y = L⁻¹ K column by column (stored as rows of Yᵀ = K L⁻ᵀ since K is symmetric).
-        let mut yt = vec![0.0; n * n];
-        for j in 0..n {
-            let mut col: Vec<f64> = (0..n).map(|i| k[i * n + j]).collect();
-            forward(&l, n, &mut col);
-            yt[j * n..(j + 1) * n].copy_from_slice(&col);
-        }
-        // C = L⁻¹ Yᵀ.
-        let mut c = vec![0.0; n * n];
-        for j in 0..n {
-            let mut col: Vec<f64> = (0..n).map(|i| yt[i * n + j]).collect();
-            forward(&l, n, &mut col);
-            for i in 0..n {
-                c[i * n + j] = col[i];
-            }
-        }
-        for i in 0..n {
-            for j in i + 1..n {
-                let v = 0.5 * (c[i * n + j] + c[j * n + i]);
-                c[i * n + j] = v;
-                c[j * n + i] = v;
-            }
-        }
+        use faer::linalg::triangular_solve::solve_lower_triangular_in_place;
+        let llt = dense(m, n).llt(faer::Side::Lower).expect("positive definite mass");
+        let l = llt.L();
+        let mut y = dense(k, n);
+        solve_lower_triangular_in_place(l, y.as_mut(), faer::Par::Seq);
+        let mut c = y.transpose().to_owned();
+        solve_lower_triangular_in_place(l, c.as_mut(), faer::Par::Seq);
+        let c: Vec<f64> = (0..n * n).map(|p| 0.5 * (c[(p / n, p % n)] + c[(p % n, p / n)])).collect();
         let s = c.iter().fold(0.0f64, |a, v| a.max(v.abs()));
         scaled_eigenvalues(&c, n).into_iter().map(|v| v * s).collect()
     }
