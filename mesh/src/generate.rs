@@ -56,6 +56,10 @@ pub(crate) struct Part {
     pub fixed: Vec<(usize, [bool; 6])>,
     /// Springs to ground.
     pub springs: Vec<PartSpring>,
+    /// Concentrated masses (end fittings).
+    pub masses: Vec<PartMass>,
+    /// Rigid links (end fittings of shell tubes).
+    pub links: Vec<PartLink>,
     /// Things worth a look, in words.
     pub warnings: Vec<String>,
 }
@@ -91,6 +95,28 @@ pub(crate) struct PartSpring {
     pub stiffness: [f64; 6],
 }
 
+/// A generated concentrated mass.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct PartMass {
+    /// Local node number.
+    pub node: usize,
+    /// Mass, in kg.
+    pub mass: f64,
+    /// Inertia tensor about the node in global axes, in kg·m².
+    pub inertia: [[f64; 3]; 3],
+}
+
+/// A generated rigid link: `members` move rigidly with `reference`.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct PartLink {
+    /// Link name (for locations and messages).
+    pub name: String,
+    /// Local node number of the reference.
+    pub reference: usize,
+    /// Local node numbers of the members.
+    pub members: Vec<usize>,
+}
+
 /// A generated tube: its part and its node layout.
 #[derive(Debug, Clone, PartialEq)]
 pub(crate) struct TubePart {
@@ -108,6 +134,8 @@ pub(crate) struct TubePart {
     pub axis: [f64; 3],
     /// Unit reference direction (angle 0).
     pub reference: [f64; 3],
+    /// Local node of the end fitting at the start and at the end, if any (the centre on the axis).
+    pub fittings: [Option<usize>; 2],
 }
 
 /// A generated panel: its part and its grid.
@@ -132,6 +160,17 @@ fn positive(at: &str, field: &str, value: f64, unit: &str) -> Result<(), ModelEr
         Err(invalid(
             format!("{at}.{field}"),
             format!("{value} is not allowed; it must be a positive finite number, in {unit}"),
+        ))
+    }
+}
+
+fn non_negative(at: &str, field: &str, value: f64, unit: &str) -> Result<(), ModelError> {
+    if value.is_finite() && value >= 0.0 {
+        Ok(())
+    } else {
+        Err(invalid(
+            format!("{at}.{field}"),
+            format!("{value} is not allowed; it must be zero or a positive finite number, in {unit}"),
         ))
     }
 }
@@ -420,14 +459,54 @@ pub(crate) fn tube_part(at: &str, t: &Tube) -> Result<TubePart, ModelError> {
             });
         }
     }
+    let fittings = t.fittings.clone().unwrap_or_default();
+    let mut fitting_nodes = [None; 2];
+    for (side, (which, fitting)) in [("start", &fittings.start), ("end", &fittings.end)].into_iter().enumerate() {
+        let Some(f) = fitting else { continue };
+        let fat = format!("{at}.fittings.{which}");
+        non_negative(&fat, "mass", f.mass, "kg")?;
+        let ia = f.axial_inertia.unwrap_or(0.0);
+        let it = f.transverse_inertia.unwrap_or(0.0);
+        non_negative(&fat, "axial_inertia", ia, "kg·m²")?;
+        non_negative(&fat, "transverse_inertia", it, "kg·m²")?;
+        let own = if side == 0 { 0 } else { rings.len() - 1 };
+        let centre = if shell {
+            let frac = fractions[own];
+            let c = [0, 1, 2].map(|k| start[k] + frac * t.length * axis[k]);
+            let node = part.points.len();
+            part.points.push(c);
+            part.links.push(PartLink {
+                name: format!("{} {which} fitting", t.name),
+                reference: node,
+                members: rings[own].clone(),
+            });
+            node
+        } else {
+            rings[own][0]
+        };
+        // I = I_t (1 − a aᵀ) + I_a a aᵀ about the centre, in global axes.
+        let inertia = std::array::from_fn(|r| {
+            std::array::from_fn(|c| {
+                let aa = axis[r] * axis[c];
+                it * (if r == c { 1.0 } else { 0.0 } - aa) + ia * aa
+            })
+        });
+        if f.mass > 0.0 || ia > 0.0 || it > 0.0 {
+            part.masses.push(PartMass { node: centre, mass: f.mass, inertia });
+        }
+        fitting_nodes[side] = Some(centre);
+    }
     let ends = t.ends.clone().unwrap_or_default();
-    for (which, end, own) in [("start", &ends.start, 0usize), ("end", &ends.end, rings.len() - 1)] {
+    for (side, (which, end)) in [("start", &ends.start), ("end", &ends.end)].into_iter().enumerate() {
+        let own = if side == 0 { 0 } else { rings.len() - 1 };
         let eat = format!("{at}.ends.{which}");
+        // With a fitting, an end condition at this end acts on the fitting's centre.
+        let held: Vec<usize> = fitting_nodes[side].map_or_else(|| rings[own].clone(), |c| vec![c]);
         match end {
             None | Some(TubeEnd::Preset(EndPreset::Free)) => {}
             Some(TubeEnd::Preset(p)) => {
                 let dofs = if *p == EndPreset::Clamped { [true; 6] } else { [true, true, true, false, false, false] };
-                part.fixed.extend(rings[own].iter().map(|&n| (n, dofs)));
+                part.fixed.extend(held.iter().map(|&n| (n, dofs)));
             }
             Some(TubeEnd::Bearing(Bearing { bearing, at: place })) => {
                 let k = stiffness(&format!("{eat}.bearing"), bearing)?;
@@ -445,14 +524,15 @@ pub(crate) fn tube_part(at: &str, t: &Tube) -> Result<TubePart, ModelError> {
                     }
                     None => own,
                 };
-                let share = 1.0 / rings[station].len() as f64;
-                for &n in &rings[station] {
+                let nodes = if station == own { held.clone() } else { rings[station].clone() };
+                let share = 1.0 / nodes.len() as f64;
+                for &n in &nodes {
                     part.springs.push(PartSpring { label: eat.clone(), node: n, stiffness: k.map(|v| v * share) });
                 }
             }
         }
     }
-    Ok(TubePart { part, rings, fractions, fidelity, start, axis, reference })
+    Ok(TubePart { part, rings, fractions, fidelity, start, axis, reference, fittings: fitting_nodes })
 }
 
 /// Index of the value in `fractions` nearest `f` (the first of equals).
@@ -611,7 +691,49 @@ mod tests {
             shear_deformation: None,
             segments: Vec::new(),
             ends: None,
+            fittings: None,
         }
+    }
+
+    #[test]
+    fn a_fitting_is_a_centre_node_linked_to_the_end_ring_and_takes_the_end_condition() {
+        let mut t = tube();
+        t.axis = Some([0.0, 0.0, 2.0]);
+        t.fittings = Some(crate::model::TubeFittings {
+            start: Some(crate::model::TubeFitting {
+                mass: 0.9,
+                axial_inertia: Some(0.01),
+                transverse_inertia: Some(0.02),
+            }),
+            end: None,
+        });
+        t.ends = Some(TubeEnds {
+            start: Some(TubeEnd::Preset(EndPreset::Pinned)),
+            end: Some(TubeEnd::Preset(EndPreset::Pinned)),
+        });
+        let tp = tube_part("tubes[0]", &t).unwrap_or_else(|e| panic!("{e}"));
+        let centre = tp.fittings[0].unwrap_or_else(|| panic!("no fitting node"));
+        assert!(tp.fittings[1].is_none());
+        assert_eq!(tp.part.points[centre], [0.0, 0.0, 0.0]);
+        assert_eq!(tp.part.links.len(), 1);
+        assert_eq!(tp.part.links[0].reference, centre);
+        assert_eq!(tp.part.links[0].members, tp.rings[0]);
+        assert_eq!(tp.part.links[0].name, "t start fitting");
+        // The pin holds the centre only at the start, every ring node at the end.
+        let held: Vec<usize> = tp.part.fixed.iter().map(|&(n, _)| n).collect();
+        assert_eq!(held.iter().filter(|&&n| n == centre).count(), 1);
+        assert!(tp.rings[0].iter().all(|n| !held.contains(n)));
+        assert!(tp.rings[tp.rings.len() - 1].iter().all(|n| held.contains(n)));
+        // Axis along Z: J = diag(I_t, I_t, I_a).
+        let m = &tp.part.masses[0];
+        assert_eq!((m.node, m.mass), (centre, 0.9));
+        assert_eq!(m.inertia, [[0.02, 0.0, 0.0], [0.0, 0.02, 0.0], [0.0, 0.0, 0.01]]);
+        t.fittings = Some(crate::model::TubeFittings {
+            start: Some(crate::model::TubeFitting { mass: -1.0, axial_inertia: None, transverse_inertia: None }),
+            end: None,
+        });
+        let e = tube_part("tubes[0]", &t).err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("tubes[0].fittings.start.mass"), "{e}");
     }
 
     #[test]

@@ -51,10 +51,11 @@ pub use io::{load_model, model_schema_json, parse_model, write_atomic};
 pub use model::{
     Absorber, AbsorberDesign, AutoWord, Axis, Beam, Bearing, BoxRegion, CandidateSet, CircleSection,
     CircularTubeSection, Direction, Dof, DofValues, EdgePreset, EdgeSupport, ElasticEdge, ElementId, EndPreset,
-    ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Location, MassMatrix, Material, Model, Mount,
-    Node, NodeId, NodesRegion, Objective, Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection,
-    RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell, Sphere, SphereRegion, Spring, SpringEnd,
-    Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeRegion, TubeSegment,
+    ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Link, LinkKind, LinkMembers, Location,
+    MassMatrix, Material, Model, Mount, Node, NodeId, NodesRegion, Objective, Panel, PanelEdge, PanelEdges,
+    PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell,
+    Sphere, SphereRegion, Spring, SpringEnd, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting,
+    TubeFittings, TubeRegion, TubeSegment,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -62,9 +63,9 @@ pub use quality::{
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, MaterialProperties, NodalMass,
-    PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec,
-    TubeNodes, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
+    NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
+    TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};

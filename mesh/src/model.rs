@@ -75,6 +75,10 @@ pub struct Model {
     /// Concentrated masses and rotary inertias.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub point_masses: Vec<PointMass>,
+    /// Connection links: sets of nodes moving as a rigid body with a reference node, or a reference
+    /// node following the average motion of a set (joints, end fittings, ring inserts).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub links: Vec<Link>,
     /// Tuned absorbers attached to the structure (mass on a spring acting along one direction).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub absorbers: Vec<Absorber>,
@@ -287,7 +291,7 @@ pub struct Shell {
 /// fraction of its length), `{"tube": name, "at": fraction}` (a beam tube's node nearest the
 /// fraction; for a shell tube the node at angle 0 of the ring nearest the fraction), or
 /// `{"region": name}` (supports and springs to ground: every node of the region; elsewhere the
-/// region's node nearest its centroid).
+/// region's node nearest its centroid), or `{"link": name}` (the link's reference node).
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Location {
@@ -313,6 +317,9 @@ pub struct Location {
     /// A region name.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub region: Option<String>,
+    /// A link name: the link's reference node.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub link: Option<String>,
 }
 
 impl Location {
@@ -648,6 +655,85 @@ fn default_count() -> usize {
     1
 }
 
+/// How a link ties its nodes together.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "lowercase")]
+pub enum LinkKind {
+    /// The member nodes move as one rigid body with the reference node: u_m = u_r + θ_r × (x_m − x_r),
+    /// θ_m = θ_r. Infinitely stiff; adds no mass.
+    Rigid,
+    /// The reference node follows the weighted least-squares rigid motion of the members'
+    /// translations (equal weights); adds no stiffness and no mass, and leaves the members'
+    /// rotations free.
+    Average,
+}
+
+/// The nodes a link acts on: `{"region": name}` or `{"nodes": [ids]}`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct LinkMembers {
+    /// A region name: every node of the region.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub region: Option<String>,
+    /// Node ids.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub nodes: Vec<NodeId>,
+}
+
+/// A connection link (a multi-point constraint), applied by eliminating the moved DOFs.
+///
+/// The reference node is an existing node (`reference`, any location form) or a new node at a
+/// point (`reference_point`, merged with a node already there). A rigid link moves its members
+/// with the reference; an averaging link moves the reference with its members (at least three
+/// members not on one line, so that the rotation is defined). The reference node is dropped from
+/// the members if a region includes it. A node can be moved by at most one link; links may chain
+/// (a member of one may be the reference of another) but not in a loop. Supports go on nodes
+/// that no link moves (for a rigid link: its reference).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Link {
+    /// Name, unique among links; used by locations (`{"link": name}` is the reference node).
+    pub name: String,
+    /// `rigid` or `average`.
+    pub kind: LinkKind,
+    /// The reference node, at an existing node.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reference: Option<Location>,
+    /// The reference node at a point, in m (a new node unless one is there already).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reference_point: Option<[f64; 3]>,
+    /// The member nodes.
+    pub members: LinkMembers,
+}
+
+/// A rigid end fitting of a tube: a mass with inertia on the tube's axis at the end, joined to the
+/// end (the ring of a shell tube through a rigid link, the end node of a beam tube directly).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct TubeFitting {
+    /// Mass, in kg (zero allowed: a massless rigid end ring).
+    pub mass: f64,
+    /// Rotary inertia about the tube's axis, in kg·m². Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub axial_inertia: Option<f64>,
+    /// Rotary inertia about any axis through the fitting perpendicular to the tube's axis, in kg·m².
+    /// Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub transverse_inertia: Option<f64>,
+}
+
+/// End fittings at a tube's start and end.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct TubeFittings {
+    /// At the start (fraction 0).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub start: Option<TubeFitting>,
+    /// At the end (fraction 1).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub end: Option<TubeFitting>,
+}
+
 /// How a tube is meshed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "lowercase")]
@@ -711,6 +797,12 @@ pub struct Tube {
     /// Conditions at the two ends. Default: both free.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ends: Option<TubeEnds>,
+    /// Rigid end fittings with mass and inertia. With a fitting, the end's condition (pinned,
+    /// clamped, a bearing at this end) acts on the fitting's centre node on the axis: a pinned
+    /// shell tube then holds the centre and lets the end tilt, whereas without a fitting "pinned"
+    /// holds every ring node, which also stops the end section from tilting. Default: none.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fittings: Option<TubeFittings>,
 }
 
 /// One segment of a stepped tube: from the previous segment's end (or 0) to `to`.

@@ -8,7 +8,7 @@ use std::collections::BTreeMap;
 
 use serde::Serialize;
 
-use crate::model::{Axis, Direction, ElementId, Fidelity, MassMatrix, NodeId, Objective};
+use crate::model::{Axis, Direction, ElementId, Fidelity, LinkKind, MassMatrix, NodeId, Objective};
 use crate::quality::ShellShape;
 use crate::section::SectionProperties;
 
@@ -41,6 +41,9 @@ pub struct Structure {
     pub panels: Vec<PanelNodes>,
     /// Regions by name: node indices, ascending, never empty.
     pub regions: BTreeMap<String, Vec<usize>>,
+    /// Connection links (explicit ones in file order, then the end fittings of shell tubes). No
+    /// node is moved by two links, links do not form loops, and nodes a link moves hold no support.
+    pub links: Vec<LinkSpec>,
     /// Mass matrix kind of beams and shells.
     pub mass_matrix: MassMatrix,
     /// Zero-frequency modes the user expects, if stated.
@@ -147,15 +150,38 @@ pub struct SpringElement {
     pub stiffness: [f64; 6],
 }
 
-/// A point mass with rotary inertia about global axes.
+/// A point mass with rotary inertia.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct NodalMass {
     /// Node index.
     pub node: usize,
     /// Mass, in kg.
     pub mass: f64,
-    /// Rotary inertia about global X, Y, Z, in kg·m².
-    pub inertia: [f64; 3],
+    /// Inertia tensor about the node in global axes (symmetric, positive semi-definite), in kg·m².
+    pub inertia: [[f64; 3]; 3],
+}
+
+/// A connection link, resolved: which nodes it ties and how.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LinkSpec {
+    /// Name (the model's, or `<tube> start fitting` / `<tube> end fitting`).
+    pub name: String,
+    /// Rigid or averaging.
+    pub kind: LinkKind,
+    /// Reference node index.
+    pub reference: usize,
+    /// Member node indices, ascending, without the reference.
+    pub members: Vec<usize>,
+}
+
+impl LinkSpec {
+    /// The nodes this link moves: the members of a rigid link, the reference of an averaging one.
+    pub fn moved(&self) -> &[usize] {
+        match self.kind {
+            LinkKind::Rigid => &self.members,
+            LinkKind::Average => std::slice::from_ref(&self.reference),
+        }
+    }
 }
 
 /// Damping of an absorber spring.
@@ -263,6 +289,9 @@ pub struct TubeNodes {
     pub reference: [f64; 3],
     /// Length, in m.
     pub length: f64,
+    /// Node of the end fitting at the start and at the end, if any (on the axis for a shell tube,
+    /// the end node for a beam tube).
+    pub fittings: [Option<usize>; 2],
 }
 
 impl TubeNodes {
@@ -428,8 +457,8 @@ impl Structure {
         bounding_diagonal(self.nodes.iter().map(|n| n.xyz))
     }
 
-    /// Connected parts: for each node, the index of its part (nodes linked by beams, shells or
-    /// node-to-node springs share a part), and the number of parts.
+    /// Connected parts: for each node, the index of its part (nodes linked by beams, shells,
+    /// node-to-node springs or links share a part), and the number of parts.
     pub fn parts(&self) -> (Vec<usize>, usize) {
         let mut parent: Vec<usize> = (0..self.nodes.len()).collect();
         fn find(parent: &mut [usize], mut i: usize) -> usize {
@@ -456,6 +485,11 @@ impl Structure {
         for s in &self.springs {
             if let Some(o) = s.other {
                 union(s.node, o, &mut parent);
+            }
+        }
+        for l in &self.links {
+            for &m in &l.members {
+                union(l.reference, m, &mut parent);
             }
         }
         let mut label = vec![usize::MAX; self.nodes.len()];

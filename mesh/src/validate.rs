@@ -6,16 +6,16 @@ use std::collections::{BTreeMap, HashMap};
 use crate::error::ModelError;
 use crate::generate::{Part, panel_part, tube_part};
 use crate::model::{
-    CandidateSet, Direction, ElementId, Fixity, FixityPreset, Location, MassMatrix, Model, NodeId, Objective, Section,
-    SpringEnd, Targets,
+    CandidateSet, Direction, ElementId, Fixity, FixityPreset, LinkKind, Location, MassMatrix, Model, NodeId, Objective,
+    Section, SpringEnd, Targets,
 };
 use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, WARP_WARNING_DEG, shell_shape};
 use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, MaterialProperties, NodalMass,
-    PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec,
-    TubeNodes, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
+    NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
+    TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -39,9 +39,11 @@ pub fn validate(model: &Model) -> Result<Structure, ModelError> {
     b.tubes()?;
     b.panels()?;
     b.regions()?;
+    b.links()?;
     b.beams()?;
     let shells = b.shells()?;
     let fixed = b.supports()?;
+    b.check_links(&fixed)?;
     let springs = b.springs()?;
     let point_masses = b.point_masses()?;
     let absorbers = b.absorbers()?;
@@ -62,6 +64,7 @@ pub fn validate(model: &Model) -> Result<Structure, ModelError> {
         tubes: b.tubes,
         panels: b.panels,
         regions: b.regions,
+        links: b.links,
         mass_matrix: model.mass_matrix.unwrap_or(MassMatrix::Consistent),
         rigid_body_modes: model.rigid_body_modes,
         study,
@@ -110,6 +113,11 @@ struct Builder<'a> {
     generated_fixed: Vec<(usize, [bool; 6])>,
     /// Springs of generated parts.
     generated_springs: Vec<SpringElement>,
+    /// Point masses of generated parts (end fittings).
+    generated_masses: Vec<NodalMass>,
+    /// Links: generated ones (end fittings) while parts are joined, then all of them.
+    links: Vec<LinkSpec>,
+    link_index: HashMap<String, usize>,
     /// Next id of a generated node, beam and shell.
     next_node: u64,
     next_beam: u64,
@@ -277,6 +285,9 @@ impl<'a> Builder<'a> {
             generated_shells: Vec::new(),
             generated_fixed: Vec::new(),
             generated_springs: Vec::new(),
+            generated_masses: Vec::new(),
+            links: Vec::new(),
+            link_index: HashMap::new(),
             next_node: model.nodes.iter().map(|n| n.id.0).max().map_or(1, |m| m + 1),
             next_beam: model.beams.iter().map(|b| b.id.0).max().map_or(1, |m| m + 1),
             next_shell: model.shells.iter().map(|e| e.id.0).max().map_or(1, |m| m + 1),
@@ -379,6 +390,7 @@ impl<'a> Builder<'a> {
                 axis: tp.axis,
                 reference: tp.reference,
                 length: t.length,
+                fittings: tp.fittings.map(|f| f.map(|n| map[n])),
             });
         }
         Ok(())
@@ -463,6 +475,22 @@ impl<'a> Builder<'a> {
             other: None,
             stiffness: s.stiffness,
         }));
+        self.generated_masses.extend(part.masses.iter().map(|m| NodalMass {
+            node: map[m.node],
+            mass: m.mass,
+            inertia: m.inertia,
+        }));
+        for l in &part.links {
+            let mut members: Vec<usize> = l.members.iter().map(|&n| map[n]).collect();
+            members.sort_unstable();
+            members.dedup();
+            self.links.push(LinkSpec {
+                name: l.name.clone(),
+                kind: LinkKind::Rigid,
+                reference: map[l.reference],
+                members,
+            });
+        }
         self.warnings.extend(part.warnings.iter().cloned());
         Ok(map)
     }
@@ -488,6 +516,185 @@ impl<'a> Builder<'a> {
             out.insert(name.clone(), select(&at, r, &cx)?);
         }
         self.regions = out;
+        Ok(())
+    }
+
+    /// The model's links, after the generated ones (whose names they must not repeat).
+    fn links(&mut self) -> Result<(), ModelError> {
+        for (i, l) in self.links.iter().enumerate() {
+            self.link_index.insert(l.name.clone(), i);
+        }
+        let generated = self.links.len();
+        let model = self.model;
+        for (i, l) in model.links.iter().enumerate() {
+            let at = format!("links[{i}]");
+            if l.name.trim().is_empty() {
+                return Err(ModelError::Invalid { at, message: "a link needs a non-empty name".into() });
+            }
+            if let Some(&first) = self.link_index.get(&l.name) {
+                let first = if first < generated {
+                    format!("the generated link \"{}\" (a tube's end fitting)", self.links[first].name)
+                } else {
+                    format!("links[{}]", first - generated)
+                };
+                return Err(ModelError::Duplicate {
+                    at,
+                    kind: "link",
+                    id: format!("\"{}\"", l.name),
+                    first,
+                    key: "name",
+                });
+            }
+            let named = format!("{at} (\"{}\")", l.name);
+            let reference = match (&l.reference, l.reference_point) {
+                (Some(loc), None) => self.locate(&format!("{named}.reference"), loc)?,
+                (None, Some(p)) => {
+                    check_point(&format!("{named}.reference_point"), p)?;
+                    let name = l.name.clone();
+                    self.add_point(p, || format!("links[{i}] (\"{name}\") reference point"))
+                }
+                _ => {
+                    return Err(ModelError::Invalid {
+                        at: named,
+                        message: "give exactly one of \"reference\" (a location) or \"reference_point\" ([x, y, z])"
+                            .into(),
+                    });
+                }
+            };
+            let m = &l.members;
+            let mut members: Vec<usize> = match (&m.region, m.nodes.is_empty()) {
+                (Some(r), true) => self.region(&format!("{named}.members.region"), r)?.to_vec(),
+                (None, false) => {
+                    let mut out = Vec::with_capacity(m.nodes.len());
+                    for (k, id) in m.nodes.iter().enumerate() {
+                        out.push(*self.node_index.get(id).ok_or_else(|| ModelError::UnknownNode {
+                            at: format!("{named}.members.nodes[{k}]"),
+                            id: id.0,
+                            hint: self.node_ids_hint(),
+                        })?);
+                    }
+                    out
+                }
+                _ => {
+                    return Err(ModelError::Invalid {
+                        at: format!("{named}.members"),
+                        message: "give exactly one of {\"region\": name} or {\"nodes\": [ids]}".into(),
+                    });
+                }
+            };
+            members.sort_unstable();
+            members.dedup();
+            members.retain(|&n| n != reference);
+            match l.kind {
+                LinkKind::Rigid if members.is_empty() => {
+                    return Err(ModelError::Invalid {
+                        at: format!("{named}.members"),
+                        message: "a rigid link needs at least one member node besides its reference node".into(),
+                    });
+                }
+                LinkKind::Average => {
+                    let points: Vec<[f64; 3]> = members.iter().map(|&n| self.nodes[n].xyz).collect();
+                    if members.len() < 3 || collinear(&points) {
+                        return Err(ModelError::Invalid {
+                            at: format!("{named}.members"),
+                            message: format!(
+                                "an averaging link needs at least three member nodes not on one line (it has {}{}), \
+                                 or the rotation of its reference is undefined; add members or use a rigid link",
+                                members.len(),
+                                if members.len() >= 3 { ", all on one line" } else { "" }
+                            ),
+                        });
+                    }
+                }
+                LinkKind::Rigid => {}
+            }
+            self.link_index.insert(l.name.clone(), self.links.len());
+            self.links.push(LinkSpec { name: l.name.clone(), kind: l.kind, reference, members });
+        }
+        Ok(())
+    }
+
+    /// Checks that no node is moved by two links, that links do not form a loop, and that no node a
+    /// link moves is held by a support.
+    fn check_links(&self, fixed: &[[bool; 6]]) -> Result<(), ModelError> {
+        let describe = |i: usize| -> String {
+            let n = self.model.links.len();
+            let generated = self.links.len() - n;
+            if i < generated {
+                format!("the link \"{}\"", self.links[i].name)
+            } else {
+                format!("links[{}] (\"{}\")", i - generated, self.links[i].name)
+            }
+        };
+        let mut moved_by: Vec<Option<usize>> = vec![None; self.nodes.len()];
+        for (i, l) in self.links.iter().enumerate() {
+            for &n in l.moved() {
+                if let Some(first) = moved_by[n] {
+                    return Err(ModelError::Invalid {
+                        at: describe(i),
+                        message: format!(
+                            "node {} is already moved by {}; a node can follow only one link",
+                            self.nodes[n].id,
+                            describe(first)
+                        ),
+                    });
+                }
+                moved_by[n] = Some(i);
+                if fixed[n].iter().any(|&f| f) {
+                    return Err(ModelError::Invalid {
+                        at: describe(i),
+                        message: format!(
+                            "node {} is held by a support and moved by this link; put the support on a node the \
+                             link does not move (for a rigid link, its reference node)",
+                            self.nodes[n].id
+                        ),
+                    });
+                }
+            }
+        }
+        // Loops: follow each link to the links that move its independent nodes.
+        let masters = |l: &LinkSpec| -> Vec<usize> {
+            match l.kind {
+                LinkKind::Rigid => vec![l.reference],
+                LinkKind::Average => l.members.clone(),
+            }
+        };
+        // 0 unvisited, 1 on the current path, 2 done.
+        let mut state = vec![0u8; self.links.len()];
+        for start in 0..self.links.len() {
+            if state[start] != 0 {
+                continue;
+            }
+            let mut stack: Vec<(usize, Vec<usize>)> = vec![(start, masters(&self.links[start]))];
+            state[start] = 1;
+            while let Some((li, rest)) = stack.last_mut() {
+                let li = *li;
+                match rest.pop() {
+                    Some(node) => {
+                        if let Some(next) = moved_by[node] {
+                            if state[next] == 1 {
+                                return Err(ModelError::Invalid {
+                                    at: describe(li),
+                                    message: format!(
+                                        "links form a loop through node {} ({} moves it); break the loop",
+                                        self.nodes[node].id,
+                                        describe(next)
+                                    ),
+                                });
+                            }
+                            if state[next] == 0 {
+                                state[next] = 1;
+                                stack.push((next, masters(&self.links[next])));
+                            }
+                        }
+                    }
+                    None => {
+                        state[li] = 2;
+                        stack.pop();
+                    }
+                }
+            }
+        }
         Ok(())
     }
 
@@ -780,10 +987,17 @@ impl<'a> Builder<'a> {
     }
 
     fn location_form_count(&self, loc: &Location) -> usize {
-        [loc.node.is_some(), loc.xyz.is_some(), loc.line.is_some(), loc.tube.is_some(), loc.region.is_some()]
-            .iter()
-            .filter(|&&f| f)
-            .count()
+        [
+            loc.node.is_some(),
+            loc.xyz.is_some(),
+            loc.line.is_some(),
+            loc.tube.is_some(),
+            loc.region.is_some(),
+            loc.link.is_some(),
+        ]
+        .iter()
+        .filter(|&&f| f)
+        .count()
     }
 
     /// Resolves a location to one node index (a region: its node nearest the centroid).
@@ -794,7 +1008,7 @@ impl<'a> Builder<'a> {
                 "a fraction \"at\" needs \"line\" or \"tube\": {\"line\": name, \"at\": fraction}".to_string()
             } else {
                 "give exactly one of {\"node\": id}, {\"xyz\": [x, y, z]}, {\"line\": name, \"at\": fraction}, \
-                 {\"tube\": name, \"at\": fraction} or {\"region\": name}"
+                 {\"tube\": name, \"at\": fraction}, {\"region\": name} or {\"link\": name}"
                     .to_string()
             };
             return Err(ModelError::Invalid { at: at.to_string(), message });
@@ -832,6 +1046,17 @@ impl<'a> Builder<'a> {
         if let Some(name) = &loc.region {
             let nodes = self.region(&format!("{at}.region"), name)?;
             return Ok(self.centroid_node(nodes));
+        }
+        if let Some(name) = &loc.link {
+            return match self.link_index.get(name) {
+                Some(&i) => Ok(self.links[i].reference),
+                None => Err(ModelError::UnknownName {
+                    at: format!("{at}.link"),
+                    kind: "link",
+                    name: name.clone(),
+                    hint: names_hint(self.links.iter().map(|l| &l.name)),
+                }),
+            };
         }
         if let Some(name) = &loc.tube {
             let Some(frac) = loc.at else {
@@ -993,7 +1218,7 @@ impl<'a> Builder<'a> {
     }
 
     fn point_masses(&mut self) -> Result<Vec<NodalMass>, ModelError> {
-        let mut out = Vec::new();
+        let mut out = std::mem::take(&mut self.generated_masses);
         let model = self.model;
         for (i, p) in model.point_masses.iter().enumerate() {
             let at = format!("point_masses[{i}]");
@@ -1006,6 +1231,7 @@ impl<'a> Builder<'a> {
             if p.mass == 0.0 && inertia.iter().all(|&v| v == 0.0) {
                 return Err(ModelError::Invalid { at, message: "mass and inertia are all zero".into() });
             }
+            let inertia = [[inertia[0], 0.0, 0.0], [0.0, inertia[1], 0.0], [0.0, 0.0, inertia[2]]];
             out.push(NodalMass { node, mass: p.mass, inertia });
         }
         Ok(out)
@@ -1522,6 +1748,19 @@ fn norm(a: [f64; 3]) -> f64 {
     (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt()
 }
 
+/// Whether `points` lie on one line: every point within 10⁻⁶ of their extent from the line through
+/// the first point and the point farthest from it.
+fn collinear(points: &[[f64; 3]]) -> bool {
+    let Some(&p0) = points.first() else { return true };
+    let far = points.iter().copied().fold(p0, |a, p| if distance(p, p0) > distance(a, p0) { p } else { a });
+    let span = distance(far, p0);
+    if span == 0.0 {
+        return true;
+    }
+    let d = sub(far, p0).map(|v| v / span);
+    points.iter().all(|&p| norm(cross(sub(p, p0), d)) <= 1e-6 * span)
+}
+
 /// A uniform grid of buckets for finding coincident points in constant time.
 struct PointGrid {
     tolerance: f64,
@@ -1651,6 +1890,71 @@ mod tests {
         assert!(s.warnings.iter().any(|w| w.contains("response_points[0].at") && w.contains("between stations")));
         let design = study.design.as_ref().unwrap_or_else(|| panic!("design"));
         assert_eq!(&design.candidates, top, "every node of the region is a candidate");
+    }
+
+    #[test]
+    fn links_resolve_their_nodes_and_take_locations() {
+        let s = shell_tube(
+            r#", "links": [{"name": "cap", "kind": "rigid", "reference_point": [1, 0, 0], "members": {"region": "end"}},
+                         {"name": "band", "kind": "average", "reference": {"tube": "t", "at": 0.5},
+                          "members": {"nodes": [17, 18, 19, 20]}}],
+                "point_masses": [{"at": {"link": "cap"}, "mass": 0.5}]"#,
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(s.links.len(), 2);
+        let cap = &s.links[0];
+        assert_eq!(s.nodes[cap.reference].xyz, [1.0, 0.0, 0.0], "a new node at the reference point");
+        assert_eq!(cap.members, s.regions["end"]);
+        assert_eq!(s.point_masses[0].node, cap.reference, "{{\"link\": name}} is the reference node");
+        // The reference is dropped from the members when they include it.
+        assert_eq!(s.links[1].members.len(), 3);
+        assert!(!s.links[1].members.contains(&s.links[1].reference));
+    }
+
+    #[test]
+    fn bad_links_are_errors_naming_the_link() {
+        let err = |extra: &str| shell_tube(extra).err().map(|e| e.to_string()).unwrap_or_default();
+        let e =
+            err(r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 1}, "members": {"nodes": [1]}}]"#);
+        assert!(e.contains("links[0] (\"a\").members") && e.contains("at least one member"), "{e}");
+        let e = err(r#", "links": [{"name": "a", "kind": "average", "reference_point": [0.5, 0, 0],
+                                    "members": {"region": "top"}}]"#);
+        assert!(e.contains("links[0] (\"a\").members") && e.contains("all on one line"), "{e}");
+        let e = err(r#", "links": [{"name": "a", "kind": "average", "reference_point": [0.5, 0, 0],
+                                    "members": {"nodes": [1, 2]}}]"#);
+        assert!(e.contains("at least three member nodes") && e.contains("it has 2"), "{e}");
+        let e = err(r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 1},
+                                    "reference_point": [0, 0, 0], "members": {"nodes": [2]}}]"#);
+        assert!(e.contains("exactly one of \"reference\""), "{e}");
+        let e = err(r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 1}, "members": {}}]"#);
+        assert!(e.contains("links[0] (\"a\").members") && e.contains("exactly one of"), "{e}");
+        let e = err(
+            r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 1}, "members": {"nodes": [999]}}]"#,
+        );
+        assert!(e.contains("links[0] (\"a\").members.nodes[0]") && e.contains("node 999"), "{e}");
+        let e = err(
+            r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 1}, "members": {"nodes": [2]}},
+                                   {"name": "a", "kind": "rigid", "reference": {"node": 3}, "members": {"nodes": [4]}}]"#,
+        );
+        assert!(e.contains("links[1]") && e.contains("defined twice") && e.contains("links[0]"), "{e}");
+        // Node 10 moved by two links.
+        let e = err(
+            r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 1}, "members": {"nodes": [10]}},
+                                   {"name": "b", "kind": "rigid", "reference": {"node": 3}, "members": {"nodes": [10]}}]"#,
+        );
+        assert!(e.contains("links[1] (\"b\")") && e.contains("node 10 is already moved by links[0]"), "{e}");
+        // A loop: a moves 10 from 11, b moves 11 from 10.
+        let e = err(
+            r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 11}, "members": {"nodes": [10]}},
+                                   {"name": "b", "kind": "rigid", "reference": {"node": 10}, "members": {"nodes": [11]}}]"#,
+        );
+        assert!(e.contains("loop"), "{e}");
+        // The start ring is pinned: a link may not move it.
+        let e =
+            err(r#", "links": [{"name": "a", "kind": "rigid", "reference": {"node": 20}, "members": {"nodes": [1]}}]"#);
+        assert!(e.contains("links[0] (\"a\")") && e.contains("held by a support"), "{e}");
+        let e = err(r#", "point_masses": [{"at": {"link": "nope"}, "mass": 1}]"#);
+        assert!(e.contains("point_masses[0].at.link") && e.contains("link \"nope\" is not defined"), "{e}");
     }
 
     #[test]

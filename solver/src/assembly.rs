@@ -46,10 +46,12 @@ pub struct System {
     pub(crate) base_inertia: Mat<f64>,
 }
 
-/// One element's contribution: its DOFs (free index or `None`) and row-major K and M blocks.
-struct Block {
+/// One element's contribution: its DOFs, each as terms over the free DOFs (none if fixed, one if
+/// free, a link's combination if a link moves it), and row-major K and M blocks on those DOFs; they
+/// enter the global matrices as Tᵀ K T.
+struct Block<'d> {
     label: String,
-    dofs: Vec<Option<usize>>,
+    dofs: Vec<&'d [(usize, f64)]>,
     /// Displacement of each block DOF under a unit rigid translation along X, Y, Z (fixed DOFs
     /// included: supports move with the base).
     rigid: Vec<[f64; 3]>,
@@ -62,25 +64,25 @@ fn node_rigid() -> [[f64; 3]; 6] {
     [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [0.0; 3], [0.0; 3], [0.0; 3]]
 }
 
-impl Block {
-    fn new(label: String, dofs: Vec<Option<usize>>, rigid: Vec<[f64; 3]>) -> Self {
+impl<'d> Block<'d> {
+    fn new(label: String, dofs: Vec<&'d [(usize, f64)]>, rigid: Vec<[f64; 3]>) -> Self {
         let n = dofs.len();
         Self { label, dofs, rigid, k: vec![0.0; n * n], m: vec![0.0; n * n] }
     }
 
     /// A block over the six DOFs of each of `nodes`.
-    fn on_nodes(label: String, dofs: &DofMap, nodes: &[usize]) -> Self {
+    fn on_nodes(label: String, dofs: &'d DofMap, nodes: &[usize]) -> Self {
         let mut d = Vec::with_capacity(6 * nodes.len());
         let mut r = Vec::with_capacity(6 * nodes.len());
         for &n in nodes {
-            d.extend(dofs.node_dofs(n));
+            d.extend((0..6).map(|c| dofs.terms(n, c)));
             r.extend(node_rigid());
         }
         Self::new(label, d, r)
     }
 }
 
-fn beam_block(s: &Structure, dofs: &DofMap, i: usize) -> Block {
+fn beam_block<'d>(s: &Structure, dofs: &'d DofMap, i: usize) -> Block<'d> {
     let b = &s.beams[i];
     let kind = mass_kind(s);
     let (k, m) =
@@ -102,7 +104,7 @@ fn mass_kind(s: &Structure) -> MassKind {
     }
 }
 
-fn shell_block(s: &Structure, dofs: &DofMap, i: usize) -> Result<Block, SolverError> {
+fn shell_block<'d>(s: &Structure, dofs: &'d DofMap, i: usize) -> Result<Block<'d>, SolverError> {
     let e = &s.shells[i];
     let xyz: Vec<[f64; 3]> = e.nodes.iter().map(|&n| s.nodes[n].xyz).collect();
     let kind = mass_kind(s);
@@ -118,13 +120,12 @@ fn shell_block(s: &Structure, dofs: &DofMap, i: usize) -> Result<Block, SolverEr
     Ok(block)
 }
 
-fn absorber_block(a: &AbsorberSpec, dofs: &DofMap, index: usize) -> Block {
+fn absorber_block<'d>(a: &AbsorberSpec, dofs: &'d DofMap, index: usize) -> Block<'d> {
     // Spring energy ½ k (z − eᵀu)²: K = k [e eᵀ, −e; −eᵀ, 1] on [ux, uy, uz, z]; mass m on z.
-    let nd = dofs.node_dofs(a.node);
     let e = a.direction.unit;
     let mut block = Block::new(
         format!("absorber \"{}\"", a.name),
-        vec![nd[0], nd[1], nd[2], dofs.absorber_dof(index)],
+        vec![dofs.terms(a.node, 0), dofs.terms(a.node, 1), dofs.terms(a.node, 2), dofs.absorber_terms(index)],
         vec![[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0], e],
     );
     let k = a.stiffness;
@@ -178,10 +179,7 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
     }
     for (i, p) in s.point_masses.iter().enumerate() {
         let mut b = Block::on_nodes(format!("point_masses[{i}]"), &dofs, &[p.node]);
-        let m = point_mass(p.mass, p.inertia);
-        for d in 0..6 {
-            b.m[6 * d + d] = m[d];
-        }
+        b.m = point_mass(p.mass, p.inertia).concat();
         blocks.push(b);
     }
     if options.include_absorbers {
@@ -201,15 +199,18 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
     for b in &blocks {
         let nb = b.dofs.len();
         for r in 0..nb {
-            let Some(i) = b.dofs[r] else { continue };
-            for c in 0..nb {
-                for d in 0..3 {
-                    base_inertia[(i, d)] += b.m[nb * r + c] * b.rigid[c][d];
+            for &(i, wi) in b.dofs[r] {
+                for c in 0..nb {
+                    let (k, m) = (b.k[nb * r + c], b.m[nb * r + c]);
+                    for d in 0..3 {
+                        base_inertia[(i, d)] += wi * m * b.rigid[c][d];
+                    }
+                    for &(j, wj) in b.dofs[c] {
+                        pairs.push(Pair { row: i, col: j });
+                        kv.push(wi * wj * k);
+                        mv.push(wi * wj * m);
+                    }
                 }
-                let Some(j) = b.dofs[c] else { continue };
-                pairs.push(Pair { row: i, col: j });
-                kv.push(b.k[nb * r + c]);
-                mv.push(b.m[nb * r + c]);
             }
         }
     }

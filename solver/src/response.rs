@@ -125,10 +125,14 @@ impl ModalModel {
     ) -> Result<Self, SolverError> {
         let nm = solution.n_modes();
         let nc = coords.len();
-        // Each coordinate touches at most three free DOFs: gather instead of dense products.
+        // Each coordinate touches a few free DOFs (three, or a link's): gather instead of dense products.
         let taps: Vec<Vec<(usize, f64)>> = coords
             .iter()
-            .map(|co| (0..3).filter_map(|k| system.dofs.dof(co.node, k).map(|i| (i, co.direction[k]))).collect())
+            .map(|co| {
+                (0..3)
+                    .flat_map(|k| system.dofs.terms(co.node, k).iter().map(move |&(i, w)| (i, w * co.direction[k])))
+                    .collect()
+            })
             .collect();
         let gather = |col: &[f64], c: usize| -> f64 { taps[c].iter().map(|&(i, w)| w * col[i]).sum() };
         let mut phi = vec![0.0; nc * nm];

@@ -15,8 +15,9 @@ pub fn solve_static(system: &System, loads: &[(usize, [f64; 6])]) -> Result<Vec<
     let mut f = Mat::<f64>::zeros(n, 1);
     for (node, load) in loads {
         for (c, v) in load.iter().enumerate() {
-            if let Some(i) = system.dofs.dof(*node, c) {
-                f[(i, 0)] += v;
+            // Virtual work through the link terms: f_free = Tᵀ f_node.
+            for &(i, w) in system.dofs.terms(*node, c) {
+                f[(i, 0)] += w * v;
             }
         }
     }
