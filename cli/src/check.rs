@@ -21,6 +21,8 @@ struct CheckReport {
     panels: Vec<String>,
     /// Region name → number of nodes it selects.
     regions: std::collections::BTreeMap<String, usize>,
+    /// Link name → kind and number of member nodes.
+    links: Vec<LinkRow>,
     springs: usize,
     point_masses: usize,
     absorbers: usize,
@@ -34,6 +36,15 @@ struct CheckReport {
 }
 
 /// Worst shape measures over the shells (definitions in the model-format docs).
+/// One link as `check` reports it.
+#[derive(Serialize)]
+struct LinkRow {
+    name: String,
+    kind: &'static str,
+    reference_node: u64,
+    members: usize,
+}
+
 #[derive(Serialize)]
 struct ShellQuality {
     quadrilaterals: usize,
@@ -82,6 +93,19 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         tubes: s.tubes.iter().map(|t| t.name.clone()).collect(),
         panels: s.panels.iter().map(|p| p.name.clone()).collect(),
         regions: s.regions.iter().map(|(k, v)| (k.clone(), v.len())).collect(),
+        links: s
+            .links
+            .iter()
+            .map(|l| LinkRow {
+                name: l.name.clone(),
+                kind: match l.kind {
+                    antinode_mesh::LinkKind::Rigid => "rigid",
+                    antinode_mesh::LinkKind::Average => "average",
+                },
+                reference_node: s.nodes[l.reference].id.0,
+                members: l.members.len(),
+            })
+            .collect(),
         springs: s.springs.len(),
         point_masses: s.point_masses.len(),
         absorbers: s.absorbers.len(),
@@ -108,6 +132,10 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         vec![
             "regions (nodes)".into(),
             list(&report.regions.iter().map(|(k, v)| format!("{k} ({v})")).collect::<Vec<_>>()),
+        ],
+        vec![
+            "links (members)".into(),
+            list(&report.links.iter().map(|l| format!("{} {} ({})", l.name, l.kind, l.members)).collect::<Vec<_>>()),
         ],
         vec!["springs".into(), report.springs.to_string()],
         vec!["point masses".into(), report.point_masses.to_string()],

@@ -40,14 +40,16 @@ impl Kind {
 }
 
 const TUBE: &str = r#"{
-  "title": "Invented starter model: thin-walled aluminium tube (80 mm x 2 mm, 1.2 m) on two elastic end bearings, shaken on top at a quarter of its length",
+  "title": "Invented starter model: thin-walled aluminium tube (80 mm x 2 mm, 1.2 m) with 0.3 kg end fittings on two elastic bearings and a torsionally soft drive coupling, shaken on top at a quarter of its length",
   "materials": {
     "aluminium": {"youngs_modulus": 7.0e10, "poisson_ratio": 0.33, "density": 2700}
   },
   "tubes": [
     {"name": "tube", "length": 1.2, "outer_diameter": 0.08, "wall_thickness": 0.002, "material": "aluminium",
      "fidelity": "shell", "around": 24, "along": 48,
-     "ends": {"start": {"bearing": {"ux": 2.0e7, "uy": 5.0e6, "uz": 5.0e6}},
+     "fittings": {"start": {"mass": 0.3, "axial_inertia": 2.0e-4, "transverse_inertia": 1.5e-4},
+                  "end": {"mass": 0.3, "axial_inertia": 2.0e-4, "transverse_inertia": 1.5e-4}},
+     "ends": {"start": {"bearing": {"ux": 2.0e7, "uy": 5.0e6, "uz": 5.0e6, "rx": 2.0e3}},
               "end": {"bearing": {"uy": 5.0e6, "uz": 5.0e6}}}}
   ],
   "regions": {

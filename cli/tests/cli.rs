@@ -1085,6 +1085,75 @@ fn generator_model_of_bad_input_tests_is_valid() {
 }
 
 #[test]
+fn links_and_fittings_show_in_check_and_feed_the_design() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let mut m = generators_base();
+    m["tubes"][0]["fittings"] = json!({"start": {"mass": 0.2}, "end": {"mass": 0.2, "axial_inertia": 1e-4}});
+    // Bearings on the fitting centres leave the spin free; a drive coupling holds it.
+    m["tubes"][0]["ends"]["start"]["bearing"]["rx"] = json!(2e3);
+    m["regions"]["mid ring"] = json!({"tube": "shaft", "from": 0.5, "to": 0.5});
+    m["links"] = json!([{"name": "insert", "kind": "average", "reference_point": [0.4, 0, 0],
+                          "members": {"region": "mid ring"}}]);
+    m["point_masses"] = json!([{"at": {"link": "insert"}, "mass": 0.05}]);
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let r = antinode(dir, [OsStr::new("check"), model.as_os_str(), "--json".as_ref()]);
+    r.assert_success("check with links");
+    let j = r.json();
+    let links = j["links"].as_array().cloned().unwrap_or_default();
+    let names: Vec<&str> = links.iter().filter_map(|l| l["name"].as_str()).collect();
+    assert_eq!(names, ["shaft start fitting", "shaft end fitting", "insert"], "{links:?}");
+    assert_eq!(links[0]["kind"], "rigid");
+    assert_eq!(links[0]["members"].as_u64(), Some(16), "a fitting ties its whole end ring");
+    assert_eq!(links[2]["kind"], "average");
+    // Tube wall + two fittings + the insert: three more nodes than without them.
+    assert_eq!(j["nodes"].as_u64(), Some(21 * 16 + 9 * 7 + 3));
+    assert_eq!(j["springs"].as_u64(), Some(2), "each bearing acts on its fitting's centre");
+    assert_eq!(j["zero_energy_modes"].as_u64(), Some(0));
+    let human = antinode(dir, [OsStr::new("check"), model.as_os_str()]);
+    human.assert_success("check (human) with links");
+    assert!(human.stdout.contains("insert average (16)"), "{}", human.stdout);
+    let out = dir.join("out");
+    let r =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    r.assert_success("design with links");
+    assert!(num(&r.json()["peak_after"], "peak_after") < num(&r.json()["peak_before"], "peak_before"));
+}
+
+#[test]
+fn rejects_bad_links() {
+    assert_generator_edit_rejected(
+        |m| {
+            m["links"] = json!([{"name": "hub", "kind": "rigid", "reference": {"region": "drive"}, "members": {"region": "drive"}}])
+        },
+        &["links[0] (\"hub\").members", "at least one member node besides its reference"],
+    );
+    assert_generator_edit_rejected(
+        |m| {
+            m["links"] = json!([{"name": "bar", "kind": "average", "reference_point": [0.4, 0, 0], "members": {"region": "top"}}])
+        },
+        &["links[0] (\"bar\").members", "not on one line", "use a rigid link"],
+    );
+    assert_generator_edit_rejected(
+        |m| {
+            m["tubes"][0]["fittings"] = json!({"start": {"mass": 0.1}});
+            m["links"] = json!([{"name": "shaft start fitting", "kind": "rigid", "reference_point": [0.4, 0, 0],
+                                  "members": {"region": "drive"}}]);
+        },
+        &["links[0]", "defined twice", "generated link \"shaft start fitting\""],
+    );
+    assert_generator_edit_rejected(
+        |m| m["tubes"][0]["fittings"] = json!({"end": {"mass": -0.1}}),
+        &["tubes[0] (\"shaft\").fittings.end.mass", "zero or a positive finite number"],
+    );
+    assert_generator_edit_rejected(
+        |m| m["study"]["excitation"][0]["at"] = json!({"link": "hub"}),
+        &["study.excitation[0].at.link", "link \"hub\" is not defined"],
+    );
+}
+
+#[test]
 fn rejects_tube_wall_not_thinner_than_its_radius() {
     assert_generator_edit_rejected(
         |m| m["tubes"][0]["wall_thickness"] = json!(0.025),
