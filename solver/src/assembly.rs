@@ -328,6 +328,16 @@ impl System {
         (0..x.len()).map(|i| y[(i, 0)]).collect()
     }
 
+    /// Dense row-major copies of K and M over the free DOFs (n × n each, in N/m and kg with the
+    /// rotational DOFs' units), for checks on small systems (symmetry, definiteness, comparisons
+    /// with other codes). Memory is 16 n² bytes: not for large models.
+    pub fn dense_matrices(&self) -> (Vec<f64>, Vec<f64>) {
+        let (k, m) = self.dense();
+        let n = self.n_dofs();
+        let rows = |a: &Mat<f64>| (0..n).flat_map(|i| (0..n).map(move |j| (i, j))).map(|(i, j)| a[(i, j)]).collect();
+        (rows(&k), rows(&m))
+    }
+
     /// Number of stored entries of K (both triangles).
     pub fn n_stored(&self) -> usize {
         self.k.val().len()
