@@ -8,7 +8,7 @@
 
 use std::path::Path;
 
-use antinode::mesh::{parse_model, validate};
+use antinode::mesh::{Limits, parse_model, validate_with};
 use antinode::solver::{AssemblyOptions, assemble};
 use libfuzzer_sys::fuzz_target;
 use serde_json::Value;
@@ -27,8 +27,12 @@ const SEEDS: [&str; 7] = [
 const SPECIAL: [f64; 16] =
     [0.0, -0.0, 1.0, -1.0, 0.5, 2.0, 1e-300, -1e-300, 1e300, -1e300, 1e9, 360.0, 1e-9, 3.0, 100.0, -360.0];
 
+/// Generated parts are capped well below the default limit, so that one input takes
+/// milliseconds (the default limit itself is unit-tested in the mesh crate).
+const LIMITS: Limits = Limits { max_nodes: 5000 };
+
 /// Models above this many nodes are only read and validated.
-const ASSEMBLE_MAX_NODES: usize = 100;
+const ASSEMBLE_MAX_NODES: usize = 30;
 
 fuzz_target!(|data: &[u8]| {
     let Some((&pick, mut edits)) = data.split_first() else { return };
@@ -40,7 +44,7 @@ fuzz_target!(|data: &[u8]| {
     }
     let Ok(text) = serde_json::to_string(&model) else { return };
     let Ok(model) = parse_model(&text, Path::new("fuzz.json")) else { return };
-    let Ok(structure) = validate(&model) else { return };
+    let Ok(structure) = validate_with(&model, &LIMITS) else { return };
     if structure.nodes.len() > ASSEMBLE_MAX_NODES {
         return;
     }

@@ -33,10 +33,6 @@ pub(crate) const MIN_AROUND: usize = 16;
 /// Default number of shell elements around a tube: the mid-surface circumference over this.
 const DEFAULT_AROUND: f64 = 32.0;
 
-/// Most nodes one generator may make: a guard against an element size given in the wrong unit
-/// (10⁶ nodes is already far beyond what the eigensolver handles in reasonable time).
-pub(crate) const MAX_PART_NODES: usize = 1_000_000;
-
 /// Default number of beam elements along a tube.
 const DEFAULT_ALONG_BEAM: f64 = 40.0;
 
@@ -315,7 +311,7 @@ fn segments(at: &str, t: &Tube) -> Result<Vec<Segment>, ModelError> {
 }
 
 /// Meshes a tube. `at` names it in messages, e.g. `tubes[0] ("shaft")`.
-pub(crate) fn tube_part(at: &str, t: &Tube) -> Result<TubePart, ModelError> {
+pub(crate) fn tube_part(at: &str, t: &Tube, max_nodes: usize) -> Result<TubePart, ModelError> {
     positive(at, "length", t.length, "m")?;
     wall(at, t.outer_diameter, t.wall_thickness)?;
     let start = t.start.unwrap_or([0.0; 3]);
@@ -381,11 +377,12 @@ pub(crate) fn tube_part(at: &str, t: &Tube) -> Result<TubePart, ModelError> {
         1
     };
     let stations = along.saturating_add(segs.len());
-    if stations.saturating_mul(around) > MAX_PART_NODES {
+    if stations.saturating_mul(around) > max_nodes {
         return Err(invalid(
             at.to_string(),
             format!(
-                "would make about {} nodes ({along} elements along, {around} around), more than {MAX_PART_NODES}; \
+                "would make about {} nodes ({along} elements along, {around} around), more than the {max_nodes} left \
+                 within the model's node limit; \
                  give a larger element_size (in m) or fewer elements",
                 stations.saturating_mul(around)
             ),
@@ -547,7 +544,7 @@ pub(crate) fn nearest(fractions: &[f64], f: f64) -> usize {
 }
 
 /// Meshes a panel. `at` names it in messages, e.g. `panels[0] ("lid")`.
-pub(crate) fn panel_part(at: &str, p: &Panel) -> Result<PanelPart, ModelError> {
+pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelPart, ModelError> {
     let [a, b] = p.size;
     positive(at, "size[0]", a, "m")?;
     positive(at, "size[1]", b, "m")?;
@@ -582,11 +579,12 @@ pub(crate) fn panel_part(at: &str, p: &Panel) -> Result<PanelPart, ModelError> {
         }
     };
     let n_points = nx.saturating_add(1).saturating_mul(ny.saturating_add(1));
-    if n_points > MAX_PART_NODES {
+    if n_points > max_nodes {
         return Err(invalid(
             at.to_string(),
             format!(
-                "would make {n_points} nodes ({nx} x {ny} elements), more than {MAX_PART_NODES}; give a larger \
+                "would make {n_points} nodes ({nx} x {ny} elements), more than the {max_nodes} left within the \
+                 model's node limit; give a larger \
                  element_size (in m) or fewer divisions"
             ),
         ));
@@ -673,6 +671,9 @@ pub(crate) fn panel_part(at: &str, p: &Panel) -> Result<PanelPart, ModelError> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The default node limit of a model.
+    const LIMIT: usize = crate::Limits::DEFAULT_MAX_NODES;
     use crate::model::{Mount, PanelEdges, TubeEnds, TubeSegment};
 
     fn tube() -> Tube {
@@ -711,7 +712,7 @@ mod tests {
             start: Some(TubeEnd::Preset(EndPreset::Pinned)),
             end: Some(TubeEnd::Preset(EndPreset::Pinned)),
         });
-        let tp = tube_part("tubes[0]", &t).unwrap_or_else(|e| panic!("{e}"));
+        let tp = tube_part("tubes[0]", &t, LIMIT).unwrap_or_else(|e| panic!("{e}"));
         let centre = tp.fittings[0].unwrap_or_else(|| panic!("no fitting node"));
         assert!(tp.fittings[1].is_none());
         assert_eq!(tp.part.points[centre], [0.0, 0.0, 0.0]);
@@ -732,7 +733,7 @@ mod tests {
             start: Some(crate::model::TubeFitting { mass: -1.0, axial_inertia: None, transverse_inertia: None }),
             end: None,
         });
-        let e = tube_part("tubes[0]", &t).err().map(|e| e.to_string()).unwrap_or_default();
+        let e = tube_part("tubes[0]", &t, LIMIT).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("tubes[0].fittings.start.mass"), "{e}");
     }
 
@@ -747,7 +748,7 @@ mod tests {
 
     #[test]
     fn shell_tube_has_rings_on_the_mid_surface_and_outward_normals() {
-        let Ok(tp) = tube_part("tubes[0] (\"t\")", &tube()) else { panic!("valid tube") };
+        let Ok(tp) = tube_part("tubes[0] (\"t\")", &tube(), LIMIT) else { panic!("valid tube") };
         assert_eq!(tp.rings.len(), 11);
         assert_eq!(tp.part.points.len(), 11 * 16);
         assert_eq!(tp.part.shells.len(), 10 * 16);
@@ -776,7 +777,7 @@ mod tests {
             TubeSegment { to: 0.85, outer_diameter: None, wall_thickness: None },
             TubeSegment { to: 1.0, outer_diameter: Some(0.12), wall_thickness: Some(0.006) },
         ];
-        let Ok(tp) = tube_part("tubes[0] (\"t\")", &t) else { panic!("valid tube") };
+        let Ok(tp) = tube_part("tubes[0] (\"t\")", &t, LIMIT) else { panic!("valid tube") };
         for f in [0.15, 0.85] {
             assert!(tp.fractions.iter().any(|g| (g - f).abs() < 1e-12), "a station at {f}: {:?}", tp.fractions);
         }
@@ -795,13 +796,13 @@ mod tests {
             TubeSegment { to: 0.5, outer_diameter: None, wall_thickness: None },
             TubeSegment { to: 0.4, outer_diameter: None, wall_thickness: None },
         ];
-        let e = tube_part("tubes[0] (\"t\")", &t).err().map(|e| e.to_string()).unwrap_or_default();
+        let e = tube_part("tubes[0] (\"t\")", &t, LIMIT).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("tubes[0] (\"t\").segments[1].to") && e.contains("increase"), "{e}");
         t.segments = vec![TubeSegment { to: 0.9, outer_diameter: None, wall_thickness: None }];
-        let e = tube_part("tubes[0] (\"t\")", &t).err().map(|e| e.to_string()).unwrap_or_default();
+        let e = tube_part("tubes[0] (\"t\")", &t, LIMIT).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("tubes[0] (\"t\").segments") && e.contains("must be 1"), "{e}");
         t.segments = vec![TubeSegment { to: 1.0, outer_diameter: None, wall_thickness: Some(0.05) }];
-        let e = tube_part("tubes[0] (\"t\")", &t).err().map(|e| e.to_string()).unwrap_or_default();
+        let e = tube_part("tubes[0] (\"t\")", &t, LIMIT).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("segments[0].wall_thickness") && e.contains("outer radius"), "{e}");
     }
 
@@ -813,7 +814,7 @@ mod tests {
             start: Some(TubeEnd::Preset(EndPreset::Pinned)),
             end: Some(TubeEnd::Bearing(Bearing { bearing, at: Some(0.8) })),
         });
-        let Ok(tp) = tube_part("tubes[0] (\"t\")", &t) else { panic!("valid tube") };
+        let Ok(tp) = tube_part("tubes[0] (\"t\")", &t, LIMIT) else { panic!("valid tube") };
         assert_eq!(tp.part.fixed.len(), 16, "every start-ring node pinned");
         assert!(tp.part.fixed.iter().all(|(n, f)| *n < 16 && *f == [true, true, true, false, false, false]));
         assert_eq!(tp.part.springs.len(), 16);
@@ -828,7 +829,7 @@ mod tests {
     fn an_element_size_in_the_wrong_unit_is_an_error_not_a_crash() {
         let mut t = tube();
         (t.around, t.along, t.element_size) = (None, None, Some(1e-6));
-        let e = tube_part("tubes[0] (\"t\")", &t).err().map(|e| e.to_string()).unwrap_or_default();
+        let e = tube_part("tubes[0] (\"t\")", &t, LIMIT).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("tubes[0] (\"t\")") && e.contains("larger element_size"), "{e}");
     }
 
@@ -851,7 +852,7 @@ mod tests {
             }),
             mounts: vec![Mount { at: [0.31, 0.1], stiffness: DofValues { uz: Some(5.0), ..DofValues::default() } }],
         };
-        let Ok(pp) = panel_part("panels[0] (\"p\")", &p) else { panic!("valid panel") };
+        let Ok(pp) = panel_part("panels[0] (\"p\")", &p, LIMIT) else { panic!("valid panel") };
         assert_eq!(pp.part.points.len(), 15);
         assert_eq!(pp.part.points[14], [0.4, 0.2, 0.5]);
         // x0: nodes 0, 5, 10 with ux, uy, uz, rx, rz fixed.

@@ -67,5 +67,5 @@ pub use structure::{
     NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
     TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
-pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
+pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_with};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};

@@ -28,12 +28,40 @@ const MERGE_TOLERANCE: f64 = 1e-9;
 /// Default snapping tolerance for `xyz` locations, as a fraction of the bounding-box diagonal.
 const SNAP_FRACTION: f64 = 0.01;
 
-/// Checks `model` and resolves names, ids and locations.
+/// Resource limits applied while a model is checked and its parts are generated.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Limits {
+    /// Most nodes the whole model may have, explicit and generated: a guard against an element
+    /// size in the wrong unit or a stray digit (a model is refused before its nodes are made).
+    pub max_nodes: usize,
+}
+
+impl Limits {
+    /// The default node limit: 10⁶ nodes (6·10⁶ DOFs) is already beyond what the eigensolver
+    /// handles in reasonable time and memory on a workstation (docs/benchmarks.md).
+    pub const DEFAULT_MAX_NODES: usize = 1_000_000;
+}
+
+impl Default for Limits {
+    fn default() -> Self {
+        Self { max_nodes: Self::DEFAULT_MAX_NODES }
+    }
+}
+
+/// Checks `model` and resolves names, ids and locations, within the default [`Limits`].
 ///
 /// # Errors
 /// The first problem found, naming the item by its JSON path and saying what is wrong.
 pub fn validate(model: &Model) -> Result<Structure, ModelError> {
-    let mut b = Builder::new(model)?;
+    validate_with(model, &Limits::default())
+}
+
+/// [`validate`] within the given limits.
+///
+/// # Errors
+/// As [`validate`]; a model above `limits` is refused before its parts are generated.
+pub fn validate_with(model: &Model, limits: &Limits) -> Result<Structure, ModelError> {
+    let mut b = Builder::new(model, *limits)?;
     b.nodes()?;
     b.lines()?;
     b.tubes()?;
@@ -94,6 +122,7 @@ struct BeamSource<'s> {
 
 struct Builder<'a> {
     model: &'a Model,
+    limits: Limits,
     materials: BTreeMap<&'a str, MaterialProperties>,
     nodes: Vec<StructureNode>,
     node_index: HashMap<NodeId, usize>,
@@ -215,7 +244,7 @@ fn direction(at: &str, d: &Direction) -> Result<DirectionSpec, ModelError> {
 }
 
 impl<'a> Builder<'a> {
-    fn new(model: &'a Model) -> Result<Self, ModelError> {
+    fn new(model: &'a Model, limits: Limits) -> Result<Self, ModelError> {
         let mut materials = BTreeMap::new();
         for (name, m) in &model.materials {
             let at = format!("materials.{name}");
@@ -269,6 +298,7 @@ impl<'a> Builder<'a> {
         let tol = (MERGE_TOLERANCE * size).max(1e-12);
         Ok(Self {
             model,
+            limits,
             materials,
             nodes: Vec::new(),
             node_index: HashMap::new(),
@@ -296,7 +326,22 @@ impl<'a> Builder<'a> {
         })
     }
 
+    /// How many more nodes the model may have within its node limit.
+    fn nodes_left(&self) -> usize {
+        self.limits.max_nodes.saturating_sub(self.nodes.len())
+    }
+
     fn nodes(&mut self) -> Result<(), ModelError> {
+        if self.model.nodes.len() > self.limits.max_nodes {
+            return Err(ModelError::Invalid {
+                at: "nodes".into(),
+                message: format!(
+                    "{} nodes are more than the model's node limit of {}",
+                    self.model.nodes.len(),
+                    self.limits.max_nodes
+                ),
+            });
+        }
         for (i, n) in self.model.nodes.iter().enumerate() {
             let at = format!("nodes[{i}]");
             if let Some(first) = self.node_path.get(&n.id) {
@@ -356,7 +401,7 @@ impl<'a> Builder<'a> {
             }
             let named = format!("{at} (\"{}\")", t.name);
             let material = self.material(&format!("{named}.material"), &t.material)?;
-            let tp = tube_part(&named, t)?;
+            let tp = tube_part(&named, t, self.nodes_left())?;
             let map = self.join(&named, &tp.part, &t.material, material)?;
             for (k, b) in tp.part.beams.iter().enumerate() {
                 let section = Section::CircularTube(b.section.clone());
@@ -415,7 +460,7 @@ impl<'a> Builder<'a> {
             }
             let named = format!("{at} (\"{}\")", p.name);
             let material = self.material(&format!("{named}.material"), &p.material)?;
-            let pp = panel_part(&named, p)?;
+            let pp = panel_part(&named, p, self.nodes_left())?;
             let map = self.join(&named, &pp.part, &p.material, material)?;
             self.panel_index.insert(p.name.as_str(), self.panels.len());
             self.panels.push(PanelNodes {
@@ -840,6 +885,15 @@ impl<'a> Builder<'a> {
             let section = self.section(&format!("{at}.section"), &l.section)?;
             self.material(&format!("{at}.material"), &l.material)?;
             let n = l.elements;
+            if n >= self.nodes_left() {
+                return Err(ModelError::Invalid {
+                    at: format!("{at} (\"{}\").elements", l.name),
+                    message: format!(
+                        "{n} elements would make more nodes than the {} left within the model's node limit",
+                        self.nodes_left()
+                    ),
+                });
+            }
             let mut idx = Vec::with_capacity(n + 1);
             for k in 0..=n {
                 let t = k as f64 / n as f64;
@@ -1822,6 +1876,32 @@ mod tests {
         }}"#
         );
         validate(&parse_model(&text, std::path::Path::new("t.json"))?)
+    }
+
+    #[test]
+    fn models_above_the_node_limit_are_refused_before_their_nodes_are_made() {
+        let model = |elements: usize, panel: &str| {
+            let text = format!(
+                r#"{{"materials": {{"s": {{"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}}}},
+                    "sections": {{"b": {{"rectangle": {{"width": 0.01, "height": 0.01}}}}}},
+                    "lines": [{{"name": "l", "from": [0, 0, 0], "to": [1, 0, 0], "elements": {elements},
+                               "section": "b", "material": "s"}}]{panel}}}"#
+            );
+            parse_model(&text, std::path::Path::new("t.json")).map_err(|e| e.to_string())
+        };
+        // A stray digit: 3·10⁸ elements along a line fails at once (no allocation of its nodes).
+        let Ok(m) = model(300_000_000, "") else { panic!("parsed") };
+        let e = validate(&m).err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("lines[0] (\"l\").elements") && e.contains("node limit"), "{e}");
+        // The limit counts the whole model: a line of 10 elements (11 nodes) leaves 9 of 20 for a
+        // panel of 4 x 1 elements (10 nodes).
+        let panel = r#", "panels": [{"name": "p", "size": [0.4, 0.1], "thickness": 0.002, "material": "s",
+                                     "divisions": [4, 1]}]"#;
+        let Ok(m) = model(10, panel) else { panic!("parsed") };
+        let limits = Limits { max_nodes: 20 };
+        let e = validate_with(&m, &limits).err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("panels[0]") && e.contains("more than the 9 left"), "{e}");
+        assert!(validate_with(&m, &Limits { max_nodes: 21 }).is_ok());
     }
 
     #[test]
