@@ -21,6 +21,10 @@ use clap::{Args, Parser, Subcommand};
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Worker threads for the parallel parts (element matrices, candidates, shifted
+    /// factorizations); default: RAYON_NUM_THREADS, else one per core. Results do not depend on it.
+    #[arg(long, global = true, value_parser = clap::value_parser!(u16).range(1..=1024))]
+    threads: Option<u16>,
 }
 
 #[derive(Subcommand)]
@@ -138,6 +142,12 @@ struct DesignArgs {
 fn main() -> ExitCode {
     antinode_solver::init();
     let cli = Cli::parse();
+    if let Some(n) = cli.threads {
+        if let Err(e) = rayon::ThreadPoolBuilder::new().num_threads(usize::from(n)).build_global() {
+            eprintln!("error: cannot start {n} worker threads: {e}");
+            return ExitCode::FAILURE;
+        }
+    }
     let result = match cli.command {
         Command::Check(a) => check::run(&a.common.model, a.common.json),
         Command::Modes(a) => modes::run(&modes::Options {

@@ -15,22 +15,17 @@ fn model(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../models").join(name)
 }
 
-/// Runs `antinode args... --out out` in a fresh folder on `threads` threads; returns every file
+/// Runs `antinode args... --out out --threads N` in a fresh folder; returns every file
 /// written under `out/`, by relative name.
 fn run(args: &[&str], threads: usize) -> BTreeMap<String, Vec<u8>> {
     let dir = tempfile::tempdir().expect("a temporary folder");
     let out = Command::new(BIN)
         .current_dir(dir.path())
         .args(args)
-        .args(["--out", "out"])
-        .env("RAYON_NUM_THREADS", threads.to_string())
+        .args(["--out", "out", "--threads", &threads.to_string()])
         .output()
         .expect("the antinode binary runs");
-    assert!(
-        out.status.success(),
-        "{args:?} on {threads} thread(s) failed:\n{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    assert!(out.status.success(), "{args:?} on {threads} thread(s) failed:\n{}", String::from_utf8_lossy(&out.stderr));
     let mut files = BTreeMap::new();
     collect(&dir.path().join("out"), Path::new(""), &mut files);
     assert!(!files.is_empty(), "{args:?} wrote no file");
