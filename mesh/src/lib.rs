@@ -63,7 +63,7 @@ pub use quality::{
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, ElementParts, LineNodes, LinkSpec, MaterialProperties,
     NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
     TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
