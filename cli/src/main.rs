@@ -103,6 +103,18 @@ struct ModesArgs {
     /// Include the model's absorbers as extra degrees of freedom (undamped coupled modes).
     #[arg(long)]
     with_absorbers: bool,
+    /// Reference point X,Y,Z (m) of the rotational effective masses (default: the centre of mass).
+    #[arg(long, value_delimiter = ',', allow_negative_numbers = true)]
+    reference_point: Option<Vec<f64>>,
+    /// Write mode-N.pvd and its frames: mode N (from 1) animated over one period.
+    #[arg(long, value_name = "MODE")]
+    animate: Option<usize>,
+    /// Frames of the animation over one period.
+    #[arg(long, default_value_t = modes::DEFAULT_FRAMES, requires = "animate")]
+    frames: usize,
+    /// Largest translation in the animation, in m (default: 5 % of the model's size).
+    #[arg(long, requires = "animate")]
+    amplitude: Option<f64>,
 }
 
 #[derive(Args)]
@@ -156,6 +168,10 @@ fn main() -> ExitCode {
             out: a.out,
             with_absorbers: a.with_absorbers,
             block_size: a.block_size,
+            reference_point: a.reference_point,
+            animate: a.animate,
+            frames: a.frames,
+            amplitude: a.amplitude,
         }),
         Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),

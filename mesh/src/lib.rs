@@ -68,4 +68,6 @@ pub use structure::{
     TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
-pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};
+pub use vtk::{
+    NodalScalars, NodalVectors, build_vtu, build_vtu_displaced, kind as cell_kind, pvd_collection, vtu_bytes, write_vtu,
+};

@@ -297,6 +297,36 @@ pub fn mass_ratio_maps(s: &Structure, system: &System, sol: &ModalSolution) -> V
         .collect()
 }
 
+/// Motion along a generated tube: for each mode and each axial station (ring), the largest
+/// motion across the axis, |u − (u·a) a|, of the station's nodes (the lateral motion of a beam
+/// tube; radial and tangential wall motion of a shell tube), in m per unit modal coordinate.
+/// Returns the stations' distances from the tube's start (m) and one profile per mode.
+///
+/// # Panics
+/// If `tube` is not an index into `s.tubes`.
+pub fn tube_profiles(s: &Structure, system: &System, sol: &ModalSolution, tube: usize) -> (Vec<f64>, Vec<Vec<f64>>) {
+    let t = &s.tubes[tube];
+    let stations: Vec<f64> = t.fractions.iter().map(|f| f * t.length).collect();
+    let profiles = (0..sol.n_modes())
+        .map(|i| {
+            let u = system.dof_map().expand(sol.shape(i));
+            t.rings
+                .iter()
+                .map(|ring| {
+                    ring.iter()
+                        .map(|&v| {
+                            let tr = [u[v][0], u[v][1], u[v][2]];
+                            let a = dot(tr, t.axis);
+                            (0..3).map(|c| (tr[c] - a * t.axis[c]).powi(2)).sum::<f64>().sqrt()
+                        })
+                        .fold(0.0, f64::max)
+                })
+                .collect()
+        })
+        .collect();
+    (stations, profiles)
+}
+
 /// Mode insight of `sol` (modes of `system`, assembled from `s`). Repeated pairs are first rotated
 /// within their span, in place: a shell-tube pair so that the first member's dominant harmonic on
 /// the ring of largest motion is cos nθ (for n = 1: motion along the tube's reference direction)

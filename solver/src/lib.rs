@@ -35,7 +35,7 @@ pub use eigen::{
 pub use error::SolverError;
 pub use insight::{
     InsightOptions, ModeClass, ModeFacts, ModeInsight, ModeKind, PAIR_TOLERANCE, RIGID_DIRECTIONS, mac, mac_matrix,
-    mass_ratio_maps, mode_insight, pair_by_mac, sampled_shapes,
+    mass_ratio_maps, mode_insight, pair_by_mac, sampled_shapes, tube_profiles,
 };
 pub use matrices::{system_from_matrix_market, write_matrix_market};
 pub use num_complex::Complex64;
