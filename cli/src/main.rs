@@ -1,6 +1,7 @@
 //! The `antinode` program: model file in, modes, responses and absorber designs out.
 
 mod check;
+mod correlate;
 mod design;
 mod init;
 mod modes;
@@ -39,6 +40,10 @@ enum Command {
     /// Write K and M after constraints as MatrixMarket files (K.mtx, M.mtx), so other libraries can
     /// be compared on the same matrices.
     ExportMatrices(ExportArgs),
+    /// Compare the model's modes with measured modes (--measured FILE.csv, docs/correlation.md) or
+    /// with a second model on the same nodes (--against MODEL): MAC matrix, pairs, frequency
+    /// errors, poor pairs flagged; writes correlation.json and correlation.svg.
+    Correlate(CorrelateArgs),
     /// Print the JSON Schema of the model file.
     Schema,
     /// Write a complete starter model to edit (an invented scenario with a study and a small
@@ -118,6 +123,25 @@ struct ModesArgs {
 }
 
 #[derive(Args)]
+struct CorrelateArgs {
+    #[command(flatten)]
+    common: Common,
+    /// Measured points and modes (CSV, see docs/correlation.md).
+    #[arg(long, required_unless_present = "against", conflicts_with = "against")]
+    measured: Option<PathBuf>,
+    /// A second model file on the same nodes (e.g. after a change).
+    #[arg(long)]
+    against: Option<PathBuf>,
+    /// Elastic modes of the model to compute (default: twice the reference modes, at least 10; with
+    /// --against also the second model's, default 20).
+    #[arg(long)]
+    count: Option<usize>,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+}
+
+#[derive(Args)]
 struct ExportArgs {
     /// Model file (JSON).
     model: PathBuf,
@@ -177,6 +201,20 @@ fn main() -> ExitCode {
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Init(a) => init::run(a.kind, a.out),
+        Command::Correlate(a) => correlate::run(&correlate::Options {
+            model: a.common.model,
+            reference: match (a.measured, a.against) {
+                (Some(m), _) => correlate::Reference::Measured(m),
+                (None, Some(b)) => correlate::Reference::Model(b),
+                (None, None) => {
+                    eprintln!("error: give --measured FILE.csv or --against MODEL");
+                    return ExitCode::FAILURE;
+                }
+            },
+            count: a.count,
+            out: a.out,
+            json: a.common.json,
+        }),
         Command::Schema => {
             print!("{}", antinode_mesh::model_schema_json());
             Ok(())

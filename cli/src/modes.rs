@@ -421,10 +421,13 @@ fn modes_csv(report: &ModesReport) -> String {
     csv
 }
 
-/// Translations of a mode at every node and each node's translation over all modes, for MAC.
+/// Translations of every mode at every node (3 per node), for the auto-MAC.
 fn translations(system: &System, sol: &ModalSolution, n_nodes: usize) -> Vec<Vec<f64>> {
-    let points: Vec<(usize, [f64; 3])> =
-        (0..n_nodes).flat_map(|v| [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]].map(|d| (v, d))).collect();
+    let points: Vec<(usize, [f64; 6])> = (0..n_nodes)
+        .flat_map(|v| {
+            [[1.0, 0.0, 0.0, 0.0, 0.0, 0.0], [0.0, 1.0, 0.0, 0.0, 0.0, 0.0], [0.0, 0.0, 1.0, 0.0, 0.0, 0.0]].map(|d| (v, d))
+        })
+        .collect();
     sampled_shapes(system, sol, &points)
 }
 

@@ -212,12 +212,13 @@ pub fn pair_by_mac(mac: &[Vec<f64>]) -> Vec<Option<usize>> {
     out
 }
 
-/// Mode shapes sampled at nodes along directions: entry j of mode i is dⱼ · u(nodeⱼ), in m per unit
-/// modal coordinate.
+/// Mode shapes sampled at nodes: entry j of mode i is wⱼ · [ux, uy, uz, rx, ry, rz](nodeⱼ) for the
+/// weights wⱼ of point j (e.g. a unit direction in the first three for a translation along it), per
+/// unit modal coordinate.
 ///
 /// # Panics
 /// If a node index is out of range.
-pub fn sampled_shapes(system: &System, sol: &ModalSolution, points: &[(usize, [f64; 3])]) -> Vec<Vec<f64>> {
+pub fn sampled_shapes(system: &System, sol: &ModalSolution, points: &[(usize, [f64; 6])]) -> Vec<Vec<f64>> {
     let dofs = system.dof_map();
     (0..sol.n_modes())
         .map(|i| {
@@ -225,7 +226,10 @@ pub fn sampled_shapes(system: &System, sol: &ModalSolution, points: &[(usize, [f
             points
                 .iter()
                 .map(|&(node, d)| {
-                    (0..3).map(|c| d[c] * dofs.terms(node, c).iter().map(|&(j, w)| w * phi[j]).sum::<f64>()).sum()
+                    (0..6)
+                        .filter(|&c| d[c] != 0.0)
+                        .map(|c| d[c] * dofs.terms(node, c).iter().map(|&(j, w)| w * phi[j]).sum::<f64>())
+                        .sum()
                 })
                 .collect()
         })
