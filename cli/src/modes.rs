@@ -75,8 +75,21 @@ struct ModeRow {
     dominant_direction: Option<&'static str>,
     energy_fractions: Option<Vec<Share>>,
     region_energy_fractions: Option<Vec<Share>>,
+    /// Where the mode moves most: the node with the largest translation.
+    largest_translation: Option<Largest>,
     relative_residual: f64,
     zero_energy: bool,
+}
+
+/// The node of a mode's largest translation.
+#[derive(Serialize)]
+struct Largest {
+    node: u64,
+    /// Position of the node in the VTK files' points, from 0.
+    point_index: usize,
+    xyz: [f64; 3],
+    /// The mass-normalised translation there (the VTK mode vector), in m per unit modal coordinate.
+    translation: [f64; 3],
 }
 
 /// Kinetic and strain energy share of a part or region.
@@ -267,6 +280,17 @@ pub fn run(o: &Options) -> Result<()> {
                 .as_ref()
                 .zip(facts)
                 .map(|(ins, f)| shares(&ins.region_names, &f.region_kinetic_fraction, &f.region_strain_fraction)),
+            largest_translation: loaded.as_ref().map(|l| {
+                let u = system.dof_map().expand(sol.shape(i));
+                let size = |v: &[f64; 6]| v[0] * v[0] + v[1] * v[1] + v[2] * v[2];
+                let k = (0..u.len()).fold(0, |b, k| if size(&u[k]) > size(&u[b]) { k } else { b });
+                Largest {
+                    node: l.structure.nodes[k].id.0,
+                    point_index: k,
+                    xyz: l.structure.nodes[k].xyz,
+                    translation: [u[k][0], u[k][1], u[k][2]],
+                }
+            }),
             relative_residual: sol.residuals[i],
             zero_energy: i < sol.n_zero_energy,
         });
