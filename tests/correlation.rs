@@ -32,9 +32,8 @@ fn simply_supported_modes_pair_with_sampled_sines() {
     let model: Vec<Vec<f64>> =
         sampled.into_iter().filter(|v| v.iter().map(|x| x * x).sum::<f64>() > 1e-12).take(3).collect();
     assert_eq!(model.len(), 3);
-    let sines: Vec<Vec<f64>> = (1..=3)
-        .map(|n| (1..8).map(|k| (n as f64 * std::f64::consts::PI * k as f64 / 8.0).sin()).collect())
-        .collect();
+    let sines: Vec<Vec<f64>> =
+        (1..=3).map(|n| (1..8).map(|k| (n as f64 * std::f64::consts::PI * k as f64 / 8.0).sin()).collect()).collect();
     let mac = mac_matrix(&sines, &model);
     assert_eq!(pair_by_mac(&mac), vec![Some(0), Some(1), Some(2)]);
     for (i, row) in mac.iter().enumerate() {

@@ -4,7 +4,7 @@
 mod common;
 
 use antinode::solver::{
-    EigenParams, InsightOptions, ModeInsight, ModeKind, ModeRequest, Method, mac, mode_insight, solve_modes,
+    EigenParams, InsightOptions, Method, ModeInsight, ModeKind, ModeRequest, mac, mode_insight, solve_modes,
 };
 use common::*;
 
@@ -39,7 +39,11 @@ fn cantilever_effective_masses_in_the_bending_plane() {
     let json = beam_model(BAR, 40, 1.0, r#"[{"at": {"line": "beam", "at": 0}, "fixed": "clamped"}]"#, STEEL);
     let (_, ins, _) = insight_of(&json, 40, false);
     let z = z_bending(&ins);
-    assert!(z.len() >= 3, "three bending modes in z among {:?}", ins.modes.iter().map(|m| &m.class).collect::<Vec<_>>());
+    assert!(
+        z.len() >= 3,
+        "three bending modes in z among {:?}",
+        ins.modes.iter().map(|m| &m.class).collect::<Vec<_>>()
+    );
     for ((got, _), want) in z.iter().zip([0.613076, 0.188300, 0.064732]) {
         assert!((got - want).abs() < 1e-4, "cantilever effective mass fraction {got} vs {want}");
     }
@@ -187,13 +191,22 @@ fn shell_tube_ovaling_pairs_are_found_where_rayleigh_puts_them() {
                 c.kind == ModeKind::Ovaling && c.n == Some(n) && c.m == Some(1)
             })
             .collect();
-        assert_eq!(found.len(), 2, "one uniform n = {n} pair among {:?}", ins.modes.iter().map(|m| &m.class).collect::<Vec<_>>());
+        assert_eq!(
+            found.len(),
+            2,
+            "one uniform n = {n} pair among {:?}",
+            ins.modes.iter().map(|m| &m.class).collect::<Vec<_>>()
+        );
         // Labelled as a pair of each other.
         assert_eq!(ins.modes[found[0]].class.pair, Some(found[1] + 1));
         assert_eq!(ins.modes[found[1]].class.pair, Some(found[0] + 1));
         let (lo, hi) = (rayleigh_hz(n as f64, r, h, false), rayleigh_hz(n as f64, r, h, true));
         for &i in &found {
-            assert!(f[i] >= (1.0 - margin) * lo && f[i] <= (1.0 + margin) * hi, "n = {n}: {} Hz not in [{lo}, {hi}]", f[i]);
+            assert!(
+                f[i] >= (1.0 - margin) * lo && f[i] <= (1.0 + margin) * hi,
+                "n = {n}: {} Hz not in [{lo}, {hi}]",
+                f[i]
+            );
         }
     }
 }

@@ -104,10 +104,20 @@ fn read_measured(path: &Path) -> Result<Measured> {
         let cell = |i: usize| -> Result<f64> {
             let text = rec.get(i).unwrap_or("");
             let v: f64 = text.parse().map_err(|_| {
-                anyhow::anyhow!("{}: line {line}, column {} ({}): {text:?} is not a number", path.display(), i + 1, names[i])
+                anyhow::anyhow!(
+                    "{}: line {line}, column {} ({}): {text:?} is not a number",
+                    path.display(),
+                    i + 1,
+                    names[i]
+                )
             })?;
             if !v.is_finite() {
-                bail!("{}: line {line}, column {} ({}): {text} is not a finite number", path.display(), i + 1, names[i]);
+                bail!(
+                    "{}: line {line}, column {} ({}): {text} is not a finite number",
+                    path.display(),
+                    i + 1,
+                    names[i]
+                );
             }
             Ok(v)
         };
@@ -133,7 +143,10 @@ fn read_measured(path: &Path) -> Result<Measured> {
         values.push((FIXED_COLUMNS.len()..names.len()).map(cell).collect::<Result<Vec<f64>>>()?);
     }
     let Some(frequencies_hz) = frequencies_hz else {
-        bail!("{}: no frequency_hz row: give the measured frequency of every mode in a row named frequency_hz", path.display())
+        bail!(
+            "{}: no frequency_hz row: give the measured frequency of every mode in a row named frequency_hz",
+            path.display()
+        )
     };
     if points.len() < MIN_POINTS {
         bail!(
@@ -229,7 +242,11 @@ fn elastic(system: &System, sol: &ModalSolution, points: &[(usize, [f64; 6])]) -
 
 /// Nearest node of `s` to `p` and its distance.
 fn nearest(s: &Structure, p: [f64; 3]) -> (usize, f64) {
-    s.nodes.iter().enumerate().map(|(i, n)| (i, distance(n.xyz, p))).fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a })
+    s.nodes
+        .iter()
+        .enumerate()
+        .map(|(i, n)| (i, distance(n.xyz, p)))
+        .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a })
 }
 
 /// For each node of `a`, the node of `b` at the same place (within `tol`), or an error naming the
@@ -302,7 +319,11 @@ pub fn run(o: &Options) -> Result<()> {
                         model.structure.nodes[node].id.0
                     );
                 }
-                points_out.push(PointOut { name: p.name.clone(), node: model.structure.nodes[node].id.0, distance_m: d });
+                points_out.push(PointOut {
+                    name: p.name.clone(),
+                    node: model.structure.nodes[node].id.0,
+                    distance_m: d,
+                });
                 let d = p.direction;
                 model_points.push((node, [d[0], d[1], d[2], 0.0, 0.0, 0.0]));
             }
@@ -358,7 +379,11 @@ pub fn run(o: &Options) -> Result<()> {
                         reasons.push(format!("MAC {v:.3} below {MAC_POOR}"));
                     }
                     if e.abs() > FREQUENCY_POOR {
-                        reasons.push(format!("frequency error {:+.1} % beyond ±{:.0} %", 100.0 * e, 100.0 * FREQUENCY_POOR));
+                        reasons.push(format!(
+                            "frequency error {:+.1} % beyond ±{:.0} %",
+                            100.0 * e,
+                            100.0 * FREQUENCY_POOR
+                        ));
                     }
                 }
                 _ => reasons.push("no model mode left to pair with (compute more with --count)".into()),
@@ -376,7 +401,7 @@ pub fn run(o: &Options) -> Result<()> {
         })
         .collect();
     let mut outputs = Outputs::create(&o.model, o.out.as_deref())?;
-    let files = vec![outputs.path("correlation.json"), outputs.path("correlation.svg")];
+    let files = [outputs.path("correlation.json"), outputs.path("correlation.svg")];
     let report = Report {
         model: o.model.display().to_string(),
         reference: reference_name,
@@ -386,7 +411,11 @@ pub fn run(o: &Options) -> Result<()> {
         model_modes,
         mac,
         pairs,
-        thresholds: Thresholds { mac_below: MAC_POOR, frequency_error_above: FREQUENCY_POOR, source: "common practice" },
+        thresholds: Thresholds {
+            mac_below: MAC_POOR,
+            frequency_error_above: FREQUENCY_POOR,
+            source: "common practice",
+        },
         files: files.iter().map(|p| p.display().to_string()).collect(),
     };
     let svg = plot::heat_map_svg(
@@ -439,10 +468,7 @@ fn print_human(r: &Report) {
             ]
         })
         .collect();
-    println!(
-        "{}",
-        table(&["reference", "Hz", "model mode", "model Hz", "MAC", "error [%]", "pair"], pair_rows)
-    );
+    println!("{}", table(&["reference", "Hz", "model mode", "model Hz", "MAC", "error [%]", "pair"], pair_rows));
     println!(
         "poor pair: MAC below {} or frequency error beyond ±{:.0} % ({})",
         r.thresholds.mac_below,

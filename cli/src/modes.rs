@@ -17,8 +17,8 @@ use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::output::{Six, Xyz, print_json, table};
-use crate::plot;
 use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, confirm_zero_energy, eigen_params, load};
+use crate::plot;
 
 /// Where the matrices come from.
 pub enum Source {
@@ -230,7 +230,10 @@ pub fn run(o: &Options) -> Result<()> {
                 },
             };
             let opts = InsightOptions { reference_point, ..InsightOptions::default() };
-            Some(mode_insight(&l.structure, &system, &mut sol, &opts).with_context(|| format!("in {}", l.path.display()))?)
+            Some(
+                mode_insight(&l.structure, &system, &mut sol, &opts)
+                    .with_context(|| format!("in {}", l.path.display()))?,
+            )
         }
         None => {
             if o.reference_point.is_some() || o.animate.is_some() {
@@ -449,7 +452,8 @@ fn modes_csv(report: &ModesReport) -> String {
 fn translations(system: &System, sol: &ModalSolution, n_nodes: usize) -> Vec<Vec<f64>> {
     let points: Vec<(usize, [f64; 6])> = (0..n_nodes)
         .flat_map(|v| {
-            [[1.0, 0.0, 0.0, 0.0, 0.0, 0.0], [0.0, 1.0, 0.0, 0.0, 0.0, 0.0], [0.0, 0.0, 1.0, 0.0, 0.0, 0.0]].map(|d| (v, d))
+            [[1.0, 0.0, 0.0, 0.0, 0.0, 0.0], [0.0, 1.0, 0.0, 0.0, 0.0, 0.0], [0.0, 0.0, 1.0, 0.0, 0.0, 0.0]]
+                .map(|d| (v, d))
         })
         .collect();
     sampled_shapes(system, sol, &points)
@@ -474,8 +478,12 @@ fn write_model_files(
     outputs.write_vtu_with("modes.vtu", s, &fields, &scalars)?;
     let title = if s.title.is_empty() { l.path.display().to_string() } else { s.title.clone() };
     let short: String = title.chars().take(70).collect();
-    let classes: Vec<(usize, f64, String)> =
-        ins.modes.iter().enumerate().map(|(i, m)| (i + 1, sol.frequency_hz(i), m.class.kind.word().to_string())).collect();
+    let classes: Vec<(usize, f64, String)> = ins
+        .modes
+        .iter()
+        .enumerate()
+        .map(|(i, m)| (i + 1, sol.frequency_hz(i), m.class.kind.word().to_string()))
+        .collect();
     outputs.write("modes.svg", plot::modes_svg(&format!("modes of {short}"), &classes)?.as_bytes())?;
     let t = translations(system, sol, s.nodes.len());
     let auto = mac_matrix(&t, &t);
@@ -487,7 +495,9 @@ fn write_model_files(
             .enumerate()
             .skip(sol.n_zero_energy)
             .take(6)
-            .map(|(i, p)| (format!("mode {} {:.1} Hz: {}", i + 1, sol.frequency_hz(i), class_words(&ins.modes[i].class)), p))
+            .map(|(i, p)| {
+                (format!("mode {} {:.1} Hz: {}", i + 1, sol.frequency_hz(i), class_words(&ins.modes[i].class)), p)
+            })
             .collect();
         let name = &s.tubes[0].name;
         let svg = plot::profiles_svg(
@@ -536,7 +546,8 @@ fn print_human(report: &ModesReport, sol: &ModalSolution) {
             let e = r.effective_mass_fraction;
             let dominant = match (r.dominant_direction, e) {
                 (Some(d), Some(e)) => {
-                    let v = [e.x, e.y, e.z, e.rx, e.ry, e.rz][RIGID_DIRECTIONS.iter().position(|x| *x == d).unwrap_or(0)];
+                    let v =
+                        [e.x, e.y, e.z, e.rx, e.ry, e.rz][RIGID_DIRECTIONS.iter().position(|x| *x == d).unwrap_or(0)];
                     format!("{d} {:.2} %", 100.0 * v)
                 }
                 _ => "-".into(),
@@ -556,7 +567,16 @@ fn print_human(report: &ModesReport, sol: &ModalSolution) {
     println!(
         "{}",
         table(
-            &["mode", "frequency [Hz]", "class", "largest m_eff", "m_eff x [%]", "m_eff y [%]", "m_eff z [%]", "residual"],
+            &[
+                "mode",
+                "frequency [Hz]",
+                "class",
+                "largest m_eff",
+                "m_eff x [%]",
+                "m_eff y [%]",
+                "m_eff z [%]",
+                "residual"
+            ],
             table_rows
         )
     );

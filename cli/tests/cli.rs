@@ -1349,7 +1349,12 @@ fn modes_insight_fields_and_animation() {
         }
         assert!(num(&m["generalised_mass"], "generalised_mass") > 0.0);
         assert!(m["class"]["kind"].is_string(), "class.kind: {}", m["class"]);
-        let kinetic: f64 = m["energy_fractions"].as_array().expect("energy_fractions").iter().map(|p| num(&p["kinetic"], "kinetic")).sum();
+        let kinetic: f64 = m["energy_fractions"]
+            .as_array()
+            .expect("energy_fractions")
+            .iter()
+            .map(|p| num(&p["kinetic"], "kinetic"))
+            .sum();
         assert!((kinetic - 1.0).abs() < 1e-9, "kinetic shares add up to 1: {kinetic}");
     }
     // The first pair of the boom on its bearings is n = 1 bending, labelled as a pair (the
@@ -1365,11 +1370,22 @@ fn modes_insight_fields_and_animation() {
     let pvd = std::fs::read_to_string(out.join("mode-9.pvd")).expect("pvd");
     assert!(frames.iter().all(|f| pvd.contains(f.as_str())), "the collection lists every frame: {pvd}");
     let csv = std::fs::read_to_string(out.join("modes.csv")).expect("csv");
-    assert!(csv.lines().next().is_some_and(|h| h.starts_with("number,frequency_hz,effective_mass_fraction_x") && h.contains(",class,n,m,plane,pair")));
+    assert!(csv.lines().next().is_some_and(
+        |h| h.starts_with("number,frequency_hz,effective_mass_fraction_x") && h.contains(",class,n,m,plane,pair")
+    ));
     // The human table names the class and the largest effective-mass direction.
-    let r = antinode(dir, [OsStr::new("modes"), model.as_os_str(), "--count".as_ref(), "4".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    let r = antinode(
+        dir,
+        [OsStr::new("modes"), model.as_os_str(), "--count".as_ref(), "4".as_ref(), "--out".as_ref(), out.as_os_str()],
+    );
     r.assert_success("modes (table)");
-    assert!(r.stdout.contains("class") && r.stdout.contains("largest m_eff") && r.stdout.contains("bending y n=1 m=1, pair 2"), "{}", r.stdout);
+    assert!(
+        r.stdout.contains("class")
+            && r.stdout.contains("largest m_eff")
+            && r.stdout.contains("bending y n=1 m=1, pair 2"),
+        "{}",
+        r.stdout
+    );
 }
 
 #[test]
@@ -1424,7 +1440,17 @@ fn correlate_pairs_the_invented_measured_modes() {
 fn correlate_against_itself_gives_the_identity() {
     let tmp = temp();
     let model = example("fan-shaft.json");
-    let (r, _) = correlate(tmp.path(), &[model.as_os_str(), "--against".as_ref(), model.as_os_str(), "--count".as_ref(), "8".as_ref(), "--json".as_ref()]);
+    let (r, _) = correlate(
+        tmp.path(),
+        &[
+            model.as_os_str(),
+            "--against".as_ref(),
+            model.as_os_str(),
+            "--count".as_ref(),
+            "8".as_ref(),
+            "--json".as_ref(),
+        ],
+    );
     r.assert_success("correlate --against");
     for (i, p) in r.json()["pairs"].as_array().expect("pairs[]").iter().enumerate() {
         // MAC(φ, φ) = 1 (definition), frequency error 0.
@@ -1488,7 +1514,9 @@ fn correlate_rejects_bad_measured_files() {
         &["line 4, column 8 (mode_a)", "NaN is not a finite number"],
     );
     assert_correlate_rejected(
-        Some("point,x,y,z,direction_x,direction_y,direction_z,mode_a\np1,0.1,0,0,0,0,1,0.2\np2,0.5,0,0,0,0,1,0.5\np3,0.9,0,0,0,0,1,0.9\n"),
+        Some(
+            "point,x,y,z,direction_x,direction_y,direction_z,mode_a\np1,0.1,0,0,0,0,1,0.2\np2,0.5,0,0,0,0,1,0.5\np3,0.9,0,0,0,0,1,0.9\n",
+        ),
         None,
         &["no frequency_hz row"],
     );
@@ -1496,5 +1524,9 @@ fn correlate_rejects_bad_measured_files() {
 
 #[test]
 fn correlate_refuses_a_second_model_with_another_mesh() {
-    assert_correlate_rejected(None, Some(&example("gantry-boom.json")), &["the meshes differ", "node 1", "has no node of", "same mesh"]);
+    assert_correlate_rejected(
+        None,
+        Some(&example("gantry-boom.json")),
+        &["the meshes differ", "node 1", "has no node of", "same mesh"],
+    );
 }

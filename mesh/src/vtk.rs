@@ -320,7 +320,8 @@ mod tests {
         let s = parse_model(text, Path::new("t.json")).ok().and_then(|m| validate(&m).ok());
         let Some(s) = s else { panic!("test model must be valid") };
         let d = vec![[0.0, 0.0, 0.1]; 3];
-        let Ok(Vtk { data: DataSet::UnstructuredGrid { pieces, .. }, .. }) = build_vtu_displaced(&s, Some(&d), &[], &[])
+        let Ok(Vtk { data: DataSet::UnstructuredGrid { pieces, .. }, .. }) =
+            build_vtu_displaced(&s, Some(&d), &[], &[])
         else {
             panic!("an unstructured grid")
         };

@@ -528,8 +528,8 @@ impl Context<'_, '_> {
         let total_k: f64 = per_block.iter().map(|p| p.0).sum();
         let total_m: f64 = per_block.iter().map(|p| p.1).sum();
         // Strain shares only where the mode strains the model (not for rigid-body modes).
-        let strain_ok = total_k > 1e-9 * per_block.iter().map(|p| p.0.abs()).sum::<f64>().max(f64::MIN_POSITIVE)
-            && total_k > 0.0;
+        let strain_ok =
+            total_k > 1e-9 * per_block.iter().map(|p| p.0.abs()).sum::<f64>().max(f64::MIN_POSITIVE) && total_k > 0.0;
         let mut out = Energies {
             kinetic: vec![0.0; self.parts.len()],
             strain: vec![0.0; self.parts.len()],
@@ -619,7 +619,14 @@ impl Context<'_, '_> {
     }
 
     /// The functional whose value the first member of a pair maximises and the second makes zero.
-    fn orientation_functional(&self, sol: &ModalSolution, i: usize, j: usize, class: &ModeClass, b: &Mat<f64>) -> Vec<f64> {
+    fn orientation_functional(
+        &self,
+        sol: &ModalSolution,
+        i: usize,
+        j: usize,
+        class: &ModeClass,
+        b: &Mat<f64>,
+    ) -> Vec<f64> {
         let dofs = self.system.dof_map();
         let nd = self.system.n_dofs();
         let mut f = vec![0.0; nd];
@@ -656,7 +663,8 @@ impl Context<'_, '_> {
             }
         }
         let (a, c) = (sol.shape(i), sol.shape(j));
-        let scale: f64 = (0..nd).map(|r| b[(r, 0)].abs() + b[(r, 1)].abs() + b[(r, 2)].abs()).sum::<f64>().max(f64::MIN_POSITIVE);
+        let scale: f64 =
+            (0..nd).map(|r| b[(r, 0)].abs() + b[(r, 1)].abs() + b[(r, 2)].abs()).sum::<f64>().max(f64::MIN_POSITIVE);
         for d in [1, 2, 0, 3, 4, 5] {
             let col: Vec<f64> = (0..nd).map(|r| b[(r, d)]).collect();
             let (la, lc) = (dot_slice(&col, a), dot_slice(&col, c));
@@ -666,7 +674,8 @@ impl Context<'_, '_> {
             }
         }
         // No participation at all: the DOF where the pair moves most.
-        let best = (0..nd).max_by(|&p, &q| (a[p] * a[p] + c[p] * c[p]).total_cmp(&(a[q] * a[q] + c[q] * c[q]))).unwrap_or(0);
+        let best =
+            (0..nd).max_by(|&p, &q| (a[p] * a[p] + c[p] * c[p]).total_cmp(&(a[q] * a[q] + c[q] * c[q]))).unwrap_or(0);
         f.fill(0.0);
         if nd > 0 {
             f[best] = 1.0;
@@ -679,7 +688,9 @@ impl Context<'_, '_> {
 /// neither has any), in m².
 fn radius_of_gyration2(s: &Structure, line: Option<usize>, tube: Option<&TubeNodes>) -> f64 {
     let on_tube = |b: &antinode_mesh::BeamElement| {
-        tube.is_some_and(|t| t.rings.iter().flatten().any(|&v| v == b.nodes[0]) && t.rings.iter().flatten().any(|&v| v == b.nodes[1]))
+        tube.is_some_and(|t| {
+            t.rings.iter().flatten().any(|&v| v == b.nodes[0]) && t.rings.iter().flatten().any(|&v| v == b.nodes[1])
+        })
     };
     let pick: Vec<&antinode_mesh::BeamElement> =
         s.beams.iter().filter(|b| (line.is_some() && b.line == line) || on_tube(b)).collect();
