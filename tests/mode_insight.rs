@@ -234,3 +234,29 @@ fn shell_tube_bending_pair_matches_the_beam_and_is_oriented_along_the_axes() {
     assert_eq!(ins.modes[6].class.plane, Some("y"));
     assert_eq!(ins.modes[7].class.plane, Some("z"));
 }
+
+#[test]
+fn simply_supported_panel_modes_get_their_half_wave_counts() {
+    // Navier's solution for a simply supported rectangular plate (Timoshenko & Woinowsky-Krieger):
+    // ω_mn = π² ((m/a)² + (n/b)²) √(D/(ρh)), mode shape sin(mπx/a) sin(nπy/b). For a = 0.6 m,
+    // b = 0.4 m the order is (1,1), (2,1), (1,2), (3,1), (2,2), (3,2): (m/a)² + (n/b)² = 9.03, 17.4,
+    // 27.8, 31.3, 36.1, 50.0 m⁻², far enough apart that 36 × 24 elements keep the order.
+    let json = r#"{"materials": {"al": {"youngs_modulus": 7e10, "poisson_ratio": 0.33, "density": 2700}},
+        "panels": [{"name": "p", "size": [0.6, 0.4], "thickness": 0.0015, "material": "al", "divisions": [36, 24],
+                    "edges": {"x0": "simply_supported", "x1": "simply_supported",
+                              "y0": "simply_supported", "y1": "simply_supported"}}]}"#;
+    let (_, ins, f) = insight_of(json, 6, false);
+    let want = [(1, 1), (2, 1), (1, 2), (3, 1), (2, 2), (3, 2)];
+    let (a, b, h) = (0.6f64, 0.4f64, 0.0015f64);
+    let d = 7e10 * h.powi(3) / (12.0 * (1.0 - 0.33f64 * 0.33));
+    for (i, &(m, n)) in want.iter().enumerate() {
+        let c = &ins.modes[i].class;
+        assert_eq!((c.kind, c.m, c.n), (ModeKind::Panel, Some(m), Some(n)), "mode {}: {c:?}", i + 1);
+        let navier = std::f64::consts::PI.powi(2)
+            * ((m as f64 / a).powi(2) + (n as f64 / b).powi(2))
+            * (d / (2700.0 * h)).sqrt()
+            / (2.0 * std::f64::consts::PI);
+        // 2 %: the bilinear element's error ≈ 0.1 (k h_e)² at these wavenumbers (DEVELOPERS.md).
+        assert_rel(f[i], navier, 0.02, &format!("panel mode ({m},{n}) against Navier"));
+    }
+}
