@@ -104,6 +104,33 @@ fn six_direction_sums_over_all_modes_equal_the_rigid_body_mass() {
 }
 
 #[test]
+fn a_model_held_by_springs_to_ground_has_all_its_mass_in_the_modes() {
+    // Held by springs to ground (no fixed DOF), every node keeps its DOFs, so b = M r with the full
+    // M and Σ_i (φ_iᵀ M r)² = rᵀ M r over all modes, as for a free body (ECSS glossary; Irvine's
+    // tutorial): the total mass in x, y, z and the inertia about the centre of mass. Exact identity
+    // with the complete dense set: 1e-10. (Fixed supports keep their share of a consistent mass
+    // matrix out of the sum: tests/effective_mass.rs.)
+    let json = beam_model(
+        BAR,
+        12,
+        1.0,
+        "[]",
+        STEEL,
+    )
+    .replace(
+        r#""supports": []"#,
+        r#""supports": [], "springs": [{"at": {"line": "beam", "at": 0}, "stiffness": {"ux": 1e8, "uy": 1e8, "uz": 1e8, "rx": 1e6, "ry": 1e6, "rz": 1e6}}]"#,
+    );
+    let (s, ins, f) = insight_of(&json, 0, true);
+    assert!(f[0] > 1.0, "held: no zero-frequency mode ({} Hz)", f[0]);
+    assert_rel(ins.rigid_mass[2], s.total_mass(), 1e-12, "rigid-body mass = total mass");
+    for d in 0..6 {
+        let sum: f64 = ins.modes.iter().map(|m| m.effective_mass[d]).sum();
+        assert_rel(sum, ins.rigid_mass[d], 1e-10, &format!("held by springs: sum of effective masses, direction {d}"));
+    }
+}
+
+#[test]
 fn rotational_sums_hold_about_any_reference_point() {
     // The same identity about another point: the inertia there follows the parallel-axis rule
     // I_ref = I_c + m d² (for the axis x, d² = Δy² + Δz²).
