@@ -1,6 +1,7 @@
 //! The `antinode` program: model file in, modes, responses and absorber designs out.
 
 mod check;
+mod correlate;
 mod design;
 mod init;
 mod modes;
@@ -43,6 +44,10 @@ enum Command {
     /// Write K and M after constraints as MatrixMarket files (K.mtx, M.mtx), so other libraries can
     /// be compared on the same matrices.
     ExportMatrices(ExportArgs),
+    /// Compare the model's modes with measured modes (--measured FILE.csv, docs/correlation.md) or
+    /// with a second model on the same nodes (--against MODEL): MAC matrix, pairs, frequency
+    /// errors, poor pairs flagged; writes correlation.json and correlation.svg.
+    Correlate(CorrelateArgs),
     /// Print the JSON Schema of the model file.
     Schema,
     /// Write a complete starter model to edit (an invented scenario with a study and a small
@@ -107,6 +112,37 @@ struct ModesArgs {
     /// Include the model's absorbers as extra degrees of freedom (undamped coupled modes).
     #[arg(long)]
     with_absorbers: bool,
+    /// Reference point X,Y,Z (m) of the rotational effective masses (default: the centre of mass).
+    #[arg(long, value_delimiter = ',', allow_negative_numbers = true)]
+    reference_point: Option<Vec<f64>>,
+    /// Write mode-N.pvd and its frames: mode N (from 1) animated over one period.
+    #[arg(long, value_name = "MODE")]
+    animate: Option<usize>,
+    /// Frames of the animation over one period.
+    #[arg(long, default_value_t = modes::DEFAULT_FRAMES, requires = "animate")]
+    frames: usize,
+    /// Largest translation in the animation, in m (default: 5 % of the model's size).
+    #[arg(long, requires = "animate")]
+    amplitude: Option<f64>,
+}
+
+#[derive(Args)]
+struct CorrelateArgs {
+    #[command(flatten)]
+    common: Common,
+    /// Measured points and modes (CSV, see docs/correlation.md).
+    #[arg(long, required_unless_present = "against", conflicts_with = "against")]
+    measured: Option<PathBuf>,
+    /// A second model file on the same nodes (e.g. after a change).
+    #[arg(long)]
+    against: Option<PathBuf>,
+    /// Elastic modes of the model to compute (default: twice the reference modes, at least 10; with
+    /// --against also the second model's, default 20).
+    #[arg(long)]
+    count: Option<usize>,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
 }
 
 #[derive(Args)]
@@ -166,11 +202,29 @@ fn main() -> ExitCode {
             out: a.out,
             with_absorbers: a.with_absorbers,
             block_size: a.block_size,
+            reference_point: a.reference_point,
+            animate: a.animate,
+            frames: a.frames,
+            amplitude: a.amplitude,
         }),
         Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Init(a) => init::run(a.kind, a.out),
+        Command::Correlate(a) => correlate::run(&correlate::Options {
+            model: a.common.model,
+            reference: match (a.measured, a.against) {
+                (Some(m), _) => correlate::Reference::Measured(m),
+                (None, Some(b)) => correlate::Reference::Model(b),
+                (None, None) => {
+                    eprintln!("error: give --measured FILE.csv or --against MODEL");
+                    return ExitCode::FAILURE;
+                }
+            },
+            count: a.count,
+            out: a.out,
+            json: a.common.json,
+        }),
         Command::Schema => {
             print!("{}", antinode_mesh::model_schema_json());
             Ok(())

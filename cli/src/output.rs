@@ -34,6 +34,23 @@ impl From<[f64; 3]> for Xyz {
     }
 }
 
+/// Values in the six rigid-body directions: translations x, y, z and rotations rx, ry, rz.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct Six {
+    pub x: f64,
+    pub y: f64,
+    pub z: f64,
+    pub rx: f64,
+    pub ry: f64,
+    pub rz: f64,
+}
+
+impl From<[f64; 6]> for Six {
+    fn from(v: [f64; 6]) -> Self {
+        Self { x: v[0], y: v[1], z: v[2], rx: v[3], ry: v[4], rz: v[5] }
+    }
+}
+
 /// A direction as in the model file: `"x"`, `"y"`, `"z"` or a vector.
 pub fn direction_json(d: &DirectionSpec) -> serde_json::Value {
     match &d.given {

@@ -133,6 +133,19 @@ impl Outputs {
             .with_context(|| format!("cannot write {}", self.path(name).display()))
     }
 
+    /// Writes the VTK file `name` of `structure` with point vectors and scalars.
+    pub fn write_vtu_with(
+        &mut self,
+        name: &str,
+        structure: &Structure,
+        vectors: &[NodalVectors],
+        scalars: &[antinode_mesh::NodalScalars],
+    ) -> Result<()> {
+        let staging = self.stage(name);
+        antinode_mesh::write_vtu(&staging, structure, vectors, scalars)
+            .with_context(|| format!("cannot write {}", self.path(name).display()))
+    }
+
     /// Renames every written file to its real name.
     pub fn commit(mut self) -> Result<()> {
         // On a failed rename, dropping `self` removes the rest.

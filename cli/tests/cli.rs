@@ -143,7 +143,12 @@ fn modes_example(dir: &Path, model: &Path) {
     let sturm = &j["sturm_check"];
     assert!(sturm.is_object(), "modes: sturm_check is an object: {sturm}");
     assert_eq!(sturm["passed"].as_bool(), Some(true), "sturm_check: {sturm}");
-    assert_files(&out, &["modes.json", "modes.csv", "modes.vtu"]);
+    let mut files = vec!["modes.json", "modes.csv", "modes.vtu", "modes.svg", "mac.svg"];
+    if model.ends_with("gantry-boom.json") {
+        // A tube model also gets the shape along the tube.
+        files.push("shape.svg");
+    }
+    assert_files(&out, &files);
     // The file holds the same report as standard output.
     let file: Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("modes.json")).expect("modes.json is readable"))
@@ -1297,5 +1302,231 @@ fn rejects_misused_generator_fields() {
     assert_generator_edit_rejected(
         |m| m["springs"] = json!([{"at": {"region": "top"}, "to": {"region": "drive"}, "stiffness": {"uz": 1e3}}]),
         &["springs[0].to", "one spring to ground per node"],
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Mode insight and correlation
+// ---------------------------------------------------------------------------------------------
+
+/// `modes` on the shell-tube example with an animation: the insight fields, the files and the
+/// animation series.
+#[test]
+fn modes_insight_fields_and_animation() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let out = dir.join("out");
+    let model = example("gantry-boom.json");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("modes"),
+            model.as_os_str(),
+            "--count".as_ref(),
+            "10".as_ref(),
+            "--animate".as_ref(),
+            "9".as_ref(),
+            "--frames".as_ref(),
+            "4".as_ref(),
+            "--reference-point".as_ref(),
+            "1.2,0,0".as_ref(),
+            "--json".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("modes --animate");
+    let j = r.json();
+    assert_eq!(j["reference_point_m"], json!([1.2, 0.0, 0.0]));
+    let modes = j["modes"].as_array().expect("modes[]");
+    for m in modes {
+        for d in ["x", "y", "z", "rx", "ry", "rz"] {
+            let e = num(&m["effective_mass_fraction"][d], "effective_mass_fraction");
+            assert!((0.0..=1.0 + 1e-12).contains(&e), "fraction {d} = {e}");
+            num(&m["participation"][d], "participation");
+            num(&m["effective_mass_kg"][d], "effective_mass_kg");
+            num(&m["cumulative_fraction"][d], "cumulative_fraction");
+        }
+        assert!(num(&m["generalised_mass"], "generalised_mass") > 0.0);
+        assert!(m["class"]["kind"].is_string(), "class.kind: {}", m["class"]);
+        let kinetic: f64 = m["energy_fractions"]
+            .as_array()
+            .expect("energy_fractions")
+            .iter()
+            .map(|p| num(&p["kinetic"], "kinetic"))
+            .sum();
+        assert!((kinetic - 1.0).abs() < 1e-9, "kinetic shares add up to 1: {kinetic}");
+    }
+    // The first pair of the boom on its bearings is n = 1 bending, labelled as a pair (the
+    // classification itself is checked against theory in tests/mode_insight.rs).
+    assert_eq!(modes[0]["class"]["kind"], "bending");
+    assert_eq!(modes[0]["class"]["pair"], 2);
+    assert_eq!(modes[8]["class"]["kind"], "ovaling");
+    assert_eq!(modes[8]["class"]["n"], 2);
+    let mut files = vec!["modes.json", "modes.csv", "modes.vtu", "modes.svg", "mac.svg", "shape.svg", "mode-9.pvd"];
+    let frames: Vec<String> = (0..4).map(|k| format!("mode-9-{k:03}.vtu")).collect();
+    files.extend(frames.iter().map(String::as_str));
+    assert_files(&out, &files);
+    let pvd = std::fs::read_to_string(out.join("mode-9.pvd")).expect("pvd");
+    assert!(frames.iter().all(|f| pvd.contains(f.as_str())), "the collection lists every frame: {pvd}");
+    let csv = std::fs::read_to_string(out.join("modes.csv")).expect("csv");
+    assert!(csv.lines().next().is_some_and(
+        |h| h.starts_with("number,frequency_hz,effective_mass_fraction_x") && h.contains(",class,n,m,plane,pair")
+    ));
+    // The human table names the class and the largest effective-mass direction.
+    let r = antinode(
+        dir,
+        [OsStr::new("modes"), model.as_os_str(), "--count".as_ref(), "4".as_ref(), "--out".as_ref(), out.as_os_str()],
+    );
+    r.assert_success("modes (table)");
+    assert!(
+        r.stdout.contains("class")
+            && r.stdout.contains("largest m_eff")
+            && r.stdout.contains("bending y n=1 m=1, pair 2"),
+        "{}",
+        r.stdout
+    );
+}
+
+#[test]
+fn modes_rejects_bad_insight_options() {
+    let model = example("fan-shaft.json");
+    let m = model.as_os_str();
+    let cases: [(&[&str], &[&str]); 4] = [
+        (&["--reference-point", "1,2"], &["--reference-point needs three finite coordinates"]),
+        (&["--animate", "0"], &["--animate 0", "modes 1 to"]),
+        (&["--animate", "3", "--frames", "1"], &["--frames 1", "at least 2"]),
+        (&["--animate", "3", "--amplitude", "0"], &["--amplitude 0", "positive length"]),
+    ];
+    for (extra, expect) in cases {
+        let mut args = vec![m];
+        args.extend(extra.iter().map(OsStr::new));
+        assert_modes_rejected(&args, expect);
+    }
+}
+
+/// Runs `antinode correlate <args> --out <tmp>/out`.
+fn correlate(dir: &Path, args: &[&OsStr]) -> (Run, PathBuf) {
+    let out = dir.join("out");
+    let mut all = vec![OsStr::new("correlate")];
+    all.extend_from_slice(args);
+    all.extend([OsStr::new("--out"), out.as_os_str()]);
+    (antinode(dir, &all), out)
+}
+
+#[test]
+fn correlate_pairs_the_invented_measured_modes() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = example("fan-shaft.json");
+    let measured = example("fan-shaft-measured.csv");
+    let (r, out) = correlate(dir, &[model.as_os_str(), "--measured".as_ref(), measured.as_os_str(), "--json".as_ref()]);
+    r.assert_success("correlate --measured");
+    let j = r.json();
+    let pairs = j["pairs"].as_array().expect("pairs[]");
+    assert_eq!(pairs.len(), 4);
+    // The file was made from the z bending modes 2, 5, 7, 10 with shifts below 5 % and 3 % noise
+    // (its header): each pairs with its source mode, MAC above 0.9, not flagged.
+    for (p, want) in pairs.iter().zip([2, 5, 7, 10]) {
+        assert_eq!(p["model_mode"], want, "{p}");
+        assert!(num(&p["mac"], "mac") > 0.9, "{p}");
+        assert_eq!(p["poor"], false, "{p}");
+    }
+    assert_eq!(j["thresholds"]["source"], "common practice");
+    assert_files(&out, &["correlation.json", "correlation.svg"]);
+}
+
+#[test]
+fn correlate_against_itself_gives_the_identity() {
+    let tmp = temp();
+    let model = example("fan-shaft.json");
+    let (r, _) = correlate(
+        tmp.path(),
+        &[
+            model.as_os_str(),
+            "--against".as_ref(),
+            model.as_os_str(),
+            "--count".as_ref(),
+            "8".as_ref(),
+            "--json".as_ref(),
+        ],
+    );
+    r.assert_success("correlate --against");
+    for (i, p) in r.json()["pairs"].as_array().expect("pairs[]").iter().enumerate() {
+        // MAC(φ, φ) = 1 (definition), frequency error 0.
+        assert_eq!(p["model_mode"], i + 1, "{p}");
+        assert!((num(&p["mac"], "mac") - 1.0).abs() < 1e-9, "{p}");
+        assert!(num(&p["frequency_error"], "frequency_error").abs() < 1e-12, "{p}");
+    }
+}
+
+/// Checks a clean rejection of `correlate`: exit code 1, the fragments, nothing written.
+fn assert_correlate_rejected(csv: Option<&str>, against: Option<&Path>, expect: &[&str]) {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = example("fan-shaft.json");
+    let file = dir.join("measured.csv");
+    let mut args = vec![model.as_os_str()];
+    if let Some(text) = csv {
+        std::fs::write(&file, text).expect("write the CSV");
+        args.extend([OsStr::new("--measured"), file.as_os_str()]);
+    }
+    if let Some(b) = against {
+        args.extend([OsStr::new("--against"), b.as_os_str()]);
+    }
+    let (r, out) = correlate(dir, &args);
+    let context = format!("--- exit code {:?}\n--- stderr\n{}", r.code, r.stderr);
+    assert!(!r.stderr.contains("panicked"), "panic: {context}");
+    assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
+    for e in expect {
+        assert!(r.stderr.contains(e), "the message lacks {e:?}: {context}");
+    }
+    assert!(entries(&out).is_empty(), "files left: {context}");
+}
+
+const CSV_HEADER: &str = "point,x,y,z,direction_x,direction_y,direction_z,mode_a\nfrequency_hz,,,,,,,60\n";
+
+#[test]
+fn correlate_rejects_bad_measured_files() {
+    assert_correlate_rejected(
+        Some("point,x,y,z,direction_x,direction_y,direction_z,mode_a,colour\nfrequency_hz,,,,,,,60,1\n"),
+        None,
+        &["measured.csv", "column 9 \"colour\" is not known", "mode_<name>"],
+    );
+    assert_correlate_rejected(
+        Some("point,x,y,z,dx,dy,dz,mode_a\n"),
+        None,
+        &["measured.csv", "column 5 of the header is \"dx\""],
+    );
+    assert_correlate_rejected(
+        Some(&format!("{CSV_HEADER}p1,0.1,0,0,0,0,1,0.2\np2,0.5,0.3,0,0,0,1,0.5\np3,0.9,0,0,0,0,1,0.9\n")),
+        None,
+        &["measured point \"p2\"", "0.3000 m from the nearest node", "within 0.0160 m"],
+    );
+    assert_correlate_rejected(
+        Some(&format!("{CSV_HEADER}p1,0.1,0,0,0,0,1,0.2\np2,0.5,0,0,0,0,1,0.5\n")),
+        None,
+        &["2 measured point(s)", "at least 3"],
+    );
+    assert_correlate_rejected(
+        Some(&format!("{CSV_HEADER}p1,0.1,0,0,0,0,1,0.2\np2,0.5,0,0,0,0,1,NaN\np3,0.9,0,0,0,0,1,0.9\n")),
+        None,
+        &["line 4, column 8 (mode_a)", "NaN is not a finite number"],
+    );
+    assert_correlate_rejected(
+        Some(
+            "point,x,y,z,direction_x,direction_y,direction_z,mode_a\np1,0.1,0,0,0,0,1,0.2\np2,0.5,0,0,0,0,1,0.5\np3,0.9,0,0,0,0,1,0.9\n",
+        ),
+        None,
+        &["no frequency_hz row"],
+    );
+}
+
+#[test]
+fn correlate_refuses_a_second_model_with_another_mesh() {
+    assert_correlate_rejected(
+        None,
+        Some(&example("gantry-boom.json")),
+        &["the meshes differ", "node 1", "has no node of", "same mesh"],
     );
 }

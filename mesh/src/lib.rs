@@ -63,9 +63,11 @@ pub use quality::{
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
-    NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
-    TargetSpec, TubeNodes, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, ElementParts, LineNodes, LinkSpec,
+    MaterialProperties, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure,
+    StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_with};
-pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};
+pub use vtk::{
+    NodalScalars, NodalVectors, build_vtu, build_vtu_displaced, kind as cell_kind, pvd_collection, vtu_bytes, write_vtu,
+};

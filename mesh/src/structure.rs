@@ -412,6 +412,24 @@ pub struct StudySpec {
     pub design: Option<DesignSpec>,
 }
 
+/// Which named part each element belongs to (for energy shares and the VTK `part` cell array).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ElementParts {
+    /// Part names: lines, tubes and panels by their names, then `beams` and `shells` for elements
+    /// given one by one (present only if any), then `point masses`, `springs`, `absorbers`.
+    pub names: Vec<String>,
+    /// Part index of each beam.
+    pub beams: Vec<usize>,
+    /// Part index of each shell.
+    pub shells: Vec<usize>,
+    /// Part index of point masses.
+    pub point_masses: usize,
+    /// Part index of springs.
+    pub springs: usize,
+    /// Part index of absorbers.
+    pub absorbers: usize,
+}
+
 impl Structure {
     /// Total mass of beams, shells and point masses, in kg (absorbers excluded).
     pub fn total_mass(&self) -> f64 {
@@ -445,6 +463,52 @@ impl Structure {
         }
         let total = self.total_mass();
         moment.map(|v| v / total)
+    }
+
+    /// The named part of every element: a beam of a line belongs to that line; a beam or shell
+    /// whose nodes all lie on a generated tube or panel belongs to it; other elements form the parts
+    /// `beams` and `shells`.
+    pub fn element_parts(&self) -> ElementParts {
+        let mut names: Vec<String> = self.lines.iter().map(|l| l.name.clone()).collect();
+        let mut owner: Vec<Option<usize>> = vec![None; self.nodes.len()];
+        for t in &self.tubes {
+            let p = names.len();
+            names.push(t.name.clone());
+            for &n in t.rings.iter().flatten() {
+                owner[n] = Some(p);
+            }
+        }
+        for pn in &self.panels {
+            let p = names.len();
+            names.push(pn.name.clone());
+            for &n in &pn.nodes {
+                owner[n] = Some(p);
+            }
+        }
+        let common = |nodes: &[usize]| -> Option<usize> {
+            let first = owner[*nodes.first()?]?;
+            nodes.iter().all(|&n| owner[n] == Some(first)).then_some(first)
+        };
+        let other = |names: &mut Vec<String>, word: &str| -> usize {
+            match names.iter().position(|n| n == word) {
+                Some(p) => p,
+                None => {
+                    names.push(word.to_string());
+                    names.len() - 1
+                }
+            }
+        };
+        let beams: Vec<usize> = self
+            .beams
+            .iter()
+            .map(|b| b.line.or_else(|| common(&b.nodes)).unwrap_or_else(|| other(&mut names, "beams")))
+            .collect();
+        let shells: Vec<usize> =
+            self.shells.iter().map(|e| common(&e.nodes).unwrap_or_else(|| other(&mut names, "shells"))).collect();
+        let point_masses = other(&mut names, "point masses");
+        let springs = other(&mut names, "springs");
+        let absorbers = other(&mut names, "absorbers");
+        ElementParts { names, beams, shells, point_masses, springs, absorbers }
     }
 
     /// Total moving mass of the absorbers, in kg.

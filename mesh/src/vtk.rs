@@ -3,8 +3,10 @@
 //! Cells: beams and node-to-node springs as lines; shells as quads and triangles; point masses and
 //! absorbers as vertices at their node. Cell data: `kind` (1 beam, 2 spring, 3 point mass,
 //! 4 absorber, 5 shell), `line` (1-based line index, 0 for other cells), `id` (beam or shell id, or
-//! position in its list) and `thickness` (shell wall thickness in m, 0 for other cells). Data are written uncompressed
-//! (inline base64), which every VTK reader accepts.
+//! position in its list), `thickness` (shell wall thickness in m, 0 for other cells) and `part` (index
+//! into [`Structure::element_parts`] names, from 0). Data are written uncompressed (inline base64),
+//! which every VTK reader accepts. [`pvd_collection`] writes a `.pvd` collection of such files (a
+//! time series, e.g. a mode shape animated over one period).
 
 use std::path::Path;
 
@@ -54,7 +56,27 @@ pub mod kind {
 /// # Errors
 /// [`ModelError::Invalid`] if a field does not have one value per node.
 pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[NodalScalars]) -> Result<Vtk, ModelError> {
+    build_vtu_displaced(structure, None, vectors, scalars)
+}
+
+/// As [`build_vtu`], with every point moved by `displacement` (one vector per node, in m), e.g. a
+/// frame of an animated mode shape.
+///
+/// # Errors
+/// [`ModelError::Invalid`] if a field or the displacement does not have one value per node.
+pub fn build_vtu_displaced(
+    structure: &Structure,
+    displacement: Option<&[[f64; 3]]>,
+    vectors: &[NodalVectors],
+    scalars: &[NodalScalars],
+) -> Result<Vtk, ModelError> {
     let n = structure.nodes.len();
+    if let Some(d) = displacement.filter(|d| d.len() != n) {
+        return Err(ModelError::Invalid {
+            at: "VTK point displacement".into(),
+            message: format!("has {} values for {n} nodes", d.len()),
+        });
+    }
     for v in vectors {
         if v.values.len() != n {
             return Err(ModelError::Invalid {
@@ -71,7 +93,12 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
             });
         }
     }
-    let points: Vec<f64> = structure.nodes.iter().flat_map(|p| p.xyz).collect();
+    let points: Vec<f64> = match displacement {
+        Some(d) => structure.nodes.iter().zip(d).flat_map(|(p, u)| [0, 1, 2].map(|k| p.xyz[k] + u[k])).collect(),
+        None => structure.nodes.iter().flat_map(|p| p.xyz).collect(),
+    };
+    let parts = structure.element_parts();
+    let mut part: Vec<i32> = Vec::new();
     let mut conn: Vec<u64> = Vec::new();
     let mut offsets: Vec<u64> = Vec::new();
     let mut types: Vec<CellType> = Vec::new();
@@ -88,6 +115,8 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         ids.push(b.id.0 as i64);
         thickness.push(0.0);
     }
+    part.extend(parts.beams.iter().map(|&p| p as i32));
+    part.extend(parts.shells.iter().map(|&p| p as i32));
     for e in &structure.shells {
         conn.extend(e.nodes.iter().map(|&n| n as u64));
         offsets.push(conn.len() as u64);
@@ -106,6 +135,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
             lines.push(0);
             ids.push(i as i64 + 1);
             thickness.push(0.0);
+            part.push(parts.springs as i32);
         }
     }
     for (i, p) in structure.point_masses.iter().enumerate() {
@@ -116,6 +146,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         lines.push(0);
         ids.push(i as i64 + 1);
         thickness.push(0.0);
+        part.push(parts.point_masses as i32);
     }
     for (i, a) in structure.absorbers.iter().enumerate() {
         conn.push(a.node as u64);
@@ -125,6 +156,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         lines.push(0);
         ids.push(i as i64 + 1);
         thickness.push(0.0);
+        part.push(parts.absorbers as i32);
     }
     let mut point_data = Vec::new();
     for v in vectors {
@@ -142,6 +174,7 @@ pub fn build_vtu(structure: &Structure, vectors: &[NodalVectors], scalars: &[Nod
         Attribute::scalars("line", 1).with_data(lines),
         Attribute::scalars("id", 1).with_data(ids),
         Attribute::scalars("thickness", 1).with_data(thickness),
+        Attribute::scalars("part", 1).with_data(part),
     ];
     Ok(Vtk {
         version: Version::new((1, 0)),
@@ -171,6 +204,35 @@ pub fn write_vtu(
     let mut bytes = Vec::new();
     vtk.write_xml(&mut bytes).map_err(|e| ModelError::Write { path: path.to_path_buf(), message: e.to_string() })?;
     write_atomic(path, &bytes).map_err(|e| ModelError::Write { path: path.to_path_buf(), message: e.to_string() })
+}
+
+/// The VTK document of `structure` as `.vtu` bytes (see [`build_vtu_displaced`]).
+///
+/// # Errors
+/// [`ModelError::Invalid`] for a field of the wrong length or a document vtkio cannot write.
+pub fn vtu_bytes(
+    structure: &Structure,
+    displacement: Option<&[[f64; 3]]>,
+    vectors: &[NodalVectors],
+    scalars: &[NodalScalars],
+) -> Result<Vec<u8>, ModelError> {
+    let vtk = build_vtu_displaced(structure, displacement, vectors, scalars)?;
+    let mut bytes = Vec::new();
+    vtk.write_xml(&mut bytes).map_err(|e| ModelError::Invalid { at: "VTK output".into(), message: e.to_string() })?;
+    Ok(bytes)
+}
+
+/// A `.pvd` collection (VTK's XML time-series index) of `(time, file name)` entries; file names are
+/// relative to the collection's folder. Names are written as given: they must not hold `"`, `<` or `&`.
+pub fn pvd_collection(entries: &[(f64, String)]) -> String {
+    let mut out = String::from(
+        "<?xml version=\"1.0\"?>\n<VTKFile type=\"Collection\" version=\"0.1\" byte_order=\"LittleEndian\">\n  <Collection>\n",
+    );
+    for (t, file) in entries {
+        out.push_str(&format!("    <DataSet timestep=\"{t:e}\" group=\"\" part=\"0\" file=\"{file}\"/>\n"));
+    }
+    out.push_str("  </Collection>\n</VTKFile>\n");
+    out
 }
 
 #[cfg(test)]
@@ -240,5 +302,33 @@ mod tests {
             _ => None,
         });
         assert_eq!(thickness, Some(IOBuffer::F64(vec![0.002, 0.003])));
+        let part = piece.data.cell.iter().find_map(|a| match a {
+            Attribute::DataArray(d) if d.name == "part" => Some(d.data.clone()),
+            _ => None,
+        });
+        // Explicit shells form one part.
+        assert_eq!(part, Some(IOBuffer::I32(vec![0, 0])));
+    }
+
+    #[test]
+    fn displaced_points_and_a_collection() {
+        let text = r#"{
+            "materials": {"s": {"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}},
+            "sections": {"r": {"circle": {"diameter": 0.01}}},
+            "lines": [{"name": "a", "from": [0,0,0], "to": [1,0,0], "elements": 2, "section": "r", "material": "s"}]
+        }"#;
+        let s = parse_model(text, Path::new("t.json")).ok().and_then(|m| validate(&m).ok());
+        let Some(s) = s else { panic!("test model must be valid") };
+        let d = vec![[0.0, 0.0, 0.1]; 3];
+        let Ok(Vtk { data: DataSet::UnstructuredGrid { pieces, .. }, .. }) =
+            build_vtu_displaced(&s, Some(&d), &[], &[])
+        else {
+            panic!("an unstructured grid")
+        };
+        let Some(vtkio::model::Piece::Inline(piece)) = pieces.into_iter().next() else { panic!("inline piece") };
+        assert_eq!(piece.points, IOBuffer::F64(vec![0.0, 0.0, 0.1, 0.5, 0.0, 0.1, 1.0, 0.0, 0.1]));
+        assert!(build_vtu_displaced(&s, Some(&d[..2]), &[], &[]).is_err());
+        let pvd = pvd_collection(&[(0.0, "a-000.vtu".into()), (0.5, "a-001.vtu".into())]);
+        assert!(pvd.contains(r#"file="a-001.vtu""#) && pvd.contains("<Collection>"));
     }
 }

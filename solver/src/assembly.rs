@@ -41,44 +41,77 @@ pub struct System {
     analysis_seconds: f64,
     pub(crate) node_xyz: Vec<[f64; 3]>,
     pub(crate) absorber_directions: Vec<[f64; 3]>,
-    /// Inertia load of a unit rigid translation of everything, supports included, along X, Y, Z:
-    /// b_d = (M_full r_d) restricted to the free DOFs = M_ff r_f + M_fs r_s (n × 3).
+    /// Inertia load of a unit rigid motion of everything, supports included: translations along X,
+    /// Y, Z, then rotations about the global X, Y, Z axes through the origin:
+    /// b_d = (M_full r_d) restricted to the free DOFs = M_ff r_f + M_fs r_s (n × 6).
     pub(crate) base_inertia: Mat<f64>,
+    /// Rigid-body mass matrix rᵀ M_full r of the same six motions (supports included), in kg,
+    /// kg·m and kg·m².
+    pub(crate) rigid_mass: [[f64; 6]; 6],
 }
 
 /// One element's contribution: its DOFs, each as terms over the free DOFs (none if fixed, one if
 /// free, a link's combination if a link moves it), and row-major K and M blocks on those DOFs; they
 /// enter the global matrices as Tᵀ K T.
-struct Block<'d> {
+pub(crate) struct Block<'d> {
     label: String,
-    dofs: Vec<&'d [(usize, f64)]>,
-    /// Displacement of each block DOF under a unit rigid translation along X, Y, Z (fixed DOFs
-    /// included: supports move with the base).
-    rigid: Vec<[f64; 3]>,
-    k: Vec<f64>,
-    m: Vec<f64>,
+    /// Which item of the structure it comes from.
+    pub(crate) source: BlockSource,
+    /// Each block DOF as terms over the free DOFs.
+    pub(crate) dofs: Vec<&'d [(usize, f64)]>,
+    /// Displacement of each block DOF under the six unit rigid motions (translations along X, Y, Z,
+    /// rotations about the global axes through the origin; fixed DOFs included: supports move with
+    /// the base).
+    rigid: Vec<[f64; 6]>,
+    /// Row-major stiffness on the block DOFs.
+    pub(crate) k: Vec<f64>,
+    /// Row-major mass on the block DOFs.
+    pub(crate) m: Vec<f64>,
 }
 
-/// Unit rigid translation of the six DOFs of a node.
-fn node_rigid() -> [[f64; 3]; 6] {
-    [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [0.0; 3], [0.0; 3], [0.0; 3]]
+/// The item of the structure an element block comes from (index into its list).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum BlockSource {
+    Beam(usize),
+    Shell(usize),
+    Spring(usize),
+    PointMass(usize),
+    Absorber(usize),
+}
+
+/// The six DOFs of a node at `x` under the six unit rigid motions: translation t and rotation ω
+/// move it by u = t + ω × x and turn it by ω.
+fn node_rigid(x: [f64; 3]) -> [[f64; 6]; 6] {
+    let mut r = [[0.0; 6]; 6];
+    for c in 0..3 {
+        r[c][c] = 1.0;
+        r[3 + c][3 + c] = 1.0;
+    }
+    // ω × x for ω = e_x, e_y, e_z: (0, −z, y), (z, 0, −x), (−y, x, 0).
+    r[1][3] = -x[2];
+    r[2][3] = x[1];
+    r[0][4] = x[2];
+    r[2][4] = -x[0];
+    r[0][5] = -x[1];
+    r[1][5] = x[0];
+    r
 }
 
 impl<'d> Block<'d> {
-    fn new(label: String, dofs: Vec<&'d [(usize, f64)]>, rigid: Vec<[f64; 3]>) -> Self {
+    fn new(label: String, source: BlockSource, dofs: Vec<&'d [(usize, f64)]>, rigid: Vec<[f64; 6]>) -> Self {
         let n = dofs.len();
-        Self { label, dofs, rigid, k: vec![0.0; n * n], m: vec![0.0; n * n] }
+        Self { label, source, dofs, rigid, k: vec![0.0; n * n], m: vec![0.0; n * n] }
     }
 
     /// A block over the six DOFs of each of `nodes`.
-    fn on_nodes(label: String, dofs: &'d DofMap, nodes: &[usize]) -> Self {
+    fn on_nodes(label: String, source: BlockSource, s: &Structure, dofs: &'d DofMap, nodes: &[usize]) -> Self {
         let mut d = Vec::with_capacity(6 * nodes.len());
         let mut r = Vec::with_capacity(6 * nodes.len());
         for &n in nodes {
             d.extend((0..6).map(|c| dofs.terms(n, c)));
-            r.extend(node_rigid());
+            r.extend(node_rigid(s.nodes[n].xyz));
         }
-        Self::new(label, d, r)
+        Self::new(label, source, d, r)
     }
 }
 
@@ -87,7 +120,7 @@ fn beam_block<'d>(s: &Structure, dofs: &'d DofMap, i: usize) -> Block<'d> {
     let kind = mass_kind(s);
     let (k, m) =
         global_matrices(s.nodes[b.nodes[0]].xyz, s.nodes[b.nodes[1]].xyz, b.orientation, &b.section, &b.material, kind);
-    let mut block = Block::on_nodes(b.label.clone(), dofs, &b.nodes);
+    let mut block = Block::on_nodes(b.label.clone(), BlockSource::Beam(i), s, dofs, &b.nodes);
     for r in 0..12 {
         for c in 0..12 {
             block.k[12 * r + c] = k[r][c];
@@ -114,19 +147,23 @@ fn shell_block<'d>(s: &Structure, dofs: &'d DofMap, i: usize) -> Result<Block<'d
         _ => return Err(SolverError::Element { element: e.label.clone(), detail: "a shell has 3 or 4 nodes".into() }),
     }
     .map_err(|d| SolverError::Element { element: e.label.clone(), detail: d.to_string() })?;
-    let mut block = Block::on_nodes(e.label.clone(), dofs, &e.nodes);
+    let mut block = Block::on_nodes(e.label.clone(), BlockSource::Shell(i), s, dofs, &e.nodes);
     block.k = matrices.stiffness;
     block.m = matrices.mass;
     Ok(block)
 }
 
-fn absorber_block<'d>(a: &AbsorberSpec, dofs: &'d DofMap, index: usize) -> Block<'d> {
+fn absorber_block<'d>(s: &Structure, a: &AbsorberSpec, dofs: &'d DofMap, index: usize) -> Block<'d> {
     // Spring energy ½ k (z − eᵀu)²: K = k [e eᵀ, −e; −eᵀ, 1] on [ux, uy, uz, z]; mass m on z.
     let e = a.direction.unit;
+    let nr = node_rigid(s.nodes[a.node].xyz);
+    // The absorber's mass moves with its node in a rigid motion: z = eᵀu.
+    let along: [f64; 6] = std::array::from_fn(|d| (0..3).map(|c| e[c] * nr[c][d]).sum());
     let mut block = Block::new(
         format!("absorber \"{}\"", a.name),
+        BlockSource::Absorber(index),
         vec![dofs.terms(a.node, 0), dofs.terms(a.node, 1), dofs.terms(a.node, 2), dofs.absorber_terms(index)],
-        vec![[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0], e],
+        vec![nr[0], nr[1], nr[2], along],
     );
     let k = a.stiffness;
     for r in 0..3 {
@@ -141,32 +178,32 @@ fn absorber_block<'d>(a: &AbsorberSpec, dofs: &'d DofMap, index: usize) -> Block
     block
 }
 
-/// Assembles K and M of `s`.
+/// The element blocks of `s` on the numbering `dofs`: beams, shells, springs, point masses, then
+/// absorbers (if included), each with its K and M.
 ///
 /// # Errors
-/// [`SolverError::NoFreeDofs`] if nothing can move, [`SolverError::NotFinite`] naming an element
-/// whose matrices overflow, [`SolverError::MasslessDof`] for a DOF with stiffness but no mass.
-pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, SolverError> {
-    let dofs = DofMap::new(s, options.include_absorbers);
-    let n = dofs.n_dofs();
-    if n == 0 {
-        return Err(SolverError::NoFreeDofs);
-    }
-    let mut blocks: Vec<Block> = (0..s.beams.len()).into_par_iter().map(|i| beam_block(s, &dofs, i)).collect();
+/// [`SolverError::Element`] for a shell whose matrices cannot be built, [`SolverError::NotFinite`]
+/// naming an element whose matrices overflow.
+pub(crate) fn element_blocks<'d>(
+    s: &Structure,
+    dofs: &'d DofMap,
+    include_absorbers: bool,
+) -> Result<Vec<Block<'d>>, SolverError> {
+    let mut blocks: Vec<Block> = (0..s.beams.len()).into_par_iter().map(|i| beam_block(s, dofs, i)).collect();
     let shells: Result<Vec<Block>, SolverError> =
-        (0..s.shells.len()).into_par_iter().map(|i| shell_block(s, &dofs, i)).collect();
+        (0..s.shells.len()).into_par_iter().map(|i| shell_block(s, dofs, i)).collect();
     blocks.extend(shells?);
-    for sp in &s.springs {
+    for (i, sp) in s.springs.iter().enumerate() {
         match sp.other {
             None => {
-                let mut b = Block::on_nodes(sp.label.clone(), &dofs, &[sp.node]);
+                let mut b = Block::on_nodes(sp.label.clone(), BlockSource::Spring(i), s, dofs, &[sp.node]);
                 for d in 0..6 {
                     b.k[6 * d + d] = sp.stiffness[d];
                 }
                 blocks.push(b);
             }
             Some(o) => {
-                let mut b = Block::on_nodes(sp.label.clone(), &dofs, &[sp.node, o]);
+                let mut b = Block::on_nodes(sp.label.clone(), BlockSource::Spring(i), s, dofs, &[sp.node, o]);
                 let k = link_stiffness(sp.stiffness);
                 for r in 0..12 {
                     for c in 0..12 {
@@ -178,13 +215,13 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         }
     }
     for (i, p) in s.point_masses.iter().enumerate() {
-        let mut b = Block::on_nodes(format!("point_masses[{i}]"), &dofs, &[p.node]);
+        let mut b = Block::on_nodes(format!("point_masses[{i}]"), BlockSource::PointMass(i), s, dofs, &[p.node]);
         b.m = point_mass(p.mass, p.inertia).concat();
         blocks.push(b);
     }
-    if options.include_absorbers {
+    if include_absorbers {
         for (i, a) in s.absorbers.iter().enumerate() {
-            blocks.push(absorber_block(a, &dofs, i));
+            blocks.push(absorber_block(s, a, dofs, i));
         }
     }
     for b in &blocks {
@@ -192,17 +229,43 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
             return Err(SolverError::NotFinite { what: format!("the matrices of {}", b.label) });
         }
     }
+    Ok(blocks)
+}
+
+/// Assembles K and M of `s`.
+///
+/// # Errors
+/// [`SolverError::NoFreeDofs`] if nothing can move, [`SolverError::NotFinite`] naming an element
+/// whose matrices overflow, [`SolverError::MasslessDof`] for a DOF with stiffness but no mass.
+pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, SolverError> {
+    let dofs = DofMap::new(s, options.include_absorbers);
+    let n = dofs.n_dofs();
+    if n == 0 {
+        return Err(SolverError::NoFreeDofs);
+    }
+    let blocks = element_blocks(s, &dofs, options.include_absorbers)?;
     let mut pairs = Vec::new();
     let mut kv = Vec::new();
     let mut mv = Vec::new();
-    let mut base_inertia = Mat::<f64>::zeros(n, 3);
+    let mut base_inertia = Mat::<f64>::zeros(n, 6);
+    let mut rigid_mass = [[0.0; 6]; 6];
     for b in &blocks {
         let nb = b.dofs.len();
         for r in 0..nb {
+            for c in 0..nb {
+                let m = b.m[nb * r + c];
+                if m != 0.0 {
+                    for d in 0..6 {
+                        for e in 0..6 {
+                            rigid_mass[d][e] += b.rigid[r][d] * m * b.rigid[c][e];
+                        }
+                    }
+                }
+            }
             for &(i, wi) in b.dofs[r] {
                 for c in 0..nb {
                     let (k, m) = (b.k[nb * r + c], b.m[nb * r + c]);
-                    for d in 0..3 {
+                    for d in 0..6 {
                         base_inertia[(i, d)] += wi * m * b.rigid[c][d];
                     }
                     for &(j, wj) in b.dofs[c] {
@@ -229,6 +292,7 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
             node_xyz: s.nodes.iter().map(|p| p.xyz).collect(),
             absorber_directions: s.absorbers.iter().map(|a| a.direction.unit).collect(),
             base_inertia,
+            rigid_mass,
         },
     )
 }
@@ -238,6 +302,7 @@ pub(crate) struct Geometry {
     pub node_xyz: Vec<[f64; 3]>,
     pub absorber_directions: Vec<[f64; 3]>,
     pub base_inertia: Mat<f64>,
+    pub rigid_mass: [[f64; 6]; 6],
 }
 
 impl System {
@@ -287,6 +352,7 @@ impl System {
             node_xyz: geometry.node_xyz,
             absorber_directions: geometry.absorber_directions,
             base_inertia: geometry.base_inertia,
+            rigid_mass: geometry.rigid_mass,
         };
         let (kd, md) = (system.diagonal(&system.k), system.diagonal(&system.m));
         let massless: Vec<String> =

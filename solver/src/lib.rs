@@ -20,6 +20,7 @@ mod eigen;
 pub mod element;
 mod error;
 mod factor;
+mod insight;
 mod matrices;
 mod ordering;
 mod response;
@@ -32,6 +33,10 @@ pub use eigen::{
     count_modes_below, participation, solve_modes,
 };
 pub use error::SolverError;
+pub use insight::{
+    InsightOptions, ModeClass, ModeFacts, ModeInsight, ModeKind, PAIR_TOLERANCE, RIGID_DIRECTIONS, mac, mac_matrix,
+    mass_ratio_maps, mode_insight, pair_by_mac, sampled_shapes, tube_profiles,
+};
 pub use matrices::{system_from_matrix_market, write_matrix_market};
 pub use num_complex::Complex64;
 pub use response::{

@@ -200,7 +200,12 @@ pub fn system_from_matrix_market(k_path: &Path, m_path: &Path) -> Result<System,
         &pairs,
         &kv,
         &mv,
-        Geometry { node_xyz: Vec::new(), absorber_directions: Vec::new(), base_inertia: Mat::zeros(n, 3) },
+        Geometry {
+            node_xyz: Vec::new(),
+            absorber_directions: Vec::new(),
+            base_inertia: Mat::zeros(n, 6),
+            rigid_mass: [[0.0; 6]; 6],
+        },
     )
 }
 

@@ -179,6 +179,17 @@ impl ModalSolution {
         self.eigenvalues[i].max(0.0).sqrt() / (2.0 * std::f64::consts::PI)
     }
 
+    /// Replaces modes `i` and `j` by cos θ φ_i + sin θ φ_j and −sin θ φ_i + cos θ φ_j (a rotation
+    /// within their span, which keeps them M-orthonormal).
+    pub(crate) fn rotate_pair(&mut self, i: usize, j: usize, theta: f64) {
+        let (c, s) = (theta.cos(), theta.sin());
+        for r in 0..self.shapes.nrows() {
+            let (a, b) = (self.shapes[(r, i)], self.shapes[(r, j)]);
+            self.shapes[(r, i)] = c * a + s * b;
+            self.shapes[(r, j)] = -s * a + c * b;
+        }
+    }
+
     pub(crate) fn shapes(&self) -> MatRef<'_, f64> {
         self.shapes.as_ref()
     }
