@@ -36,7 +36,9 @@
 //! ```
 
 mod error;
+mod export;
 mod generate;
+mod import;
 mod io;
 mod model;
 mod quality;
@@ -47,15 +49,17 @@ mod validate;
 mod vtk;
 
 pub use error::ModelError;
+pub use export::{MeshExport, MeshFormat, NODE_ID_ARRAY, PROPERTY_ARRAY, export_mesh};
+pub use import::resolve_mesh_files;
 pub use io::{load_model, model_schema_json, parse_model, write_atomic};
 pub use model::{
-    Absorber, AbsorberDesign, AutoWord, Axis, Beam, Bearing, BoxRegion, CandidateSet, CircleSection,
+    Absorber, AbsorberDesign, AutoWord, Axis, Beam, BeamProperty, Bearing, BoxRegion, CandidateSet, CircleSection,
     CircularTubeSection, Direction, Dof, DofValues, EdgePreset, EdgeSupport, ElasticEdge, ElementId, EndPreset,
     ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Link, LinkKind, LinkMembers, Location,
-    MassMatrix, Material, Model, Mount, Node, NodeId, NodesRegion, Objective, Panel, PanelEdge, PanelEdges,
-    PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell,
-    Sphere, SphereRegion, Spring, SpringEnd, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting,
-    TubeFittings, TubeRegion, TubeSegment,
+    MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId, NodesRegion, Objective,
+    Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region,
+    ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Study, Support,
+    Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -64,8 +68,8 @@ pub use quality::{
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
-    NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
-    TargetSpec, TubeNodes, bounding_diagonal, distance,
+    MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode,
+    StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
-pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
+pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate, validate_in};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};
