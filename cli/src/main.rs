@@ -2,6 +2,7 @@
 
 mod check;
 mod design;
+mod export_mesh;
 mod init;
 mod modes;
 mod output;
@@ -39,6 +40,10 @@ enum Command {
     /// Write K and M after constraints as MatrixMarket files (K.mtx, M.mtx), so other libraries can
     /// be compared on the same matrices.
     ExportMatrices(ExportArgs),
+    /// Write the model's beams and shells as one VTK mesh (a `property` cell array, a `node_id`
+    /// point array) and a model file that imports it, with supports, springs, masses, links and
+    /// absorbers by node id: <name>-mesh.vtu (or .vtk) and <name>-mesh.json.
+    ExportMesh(ExportMeshArgs),
     /// Print the JSON Schema of the model file.
     Schema,
     /// Write a complete starter model to edit (an invented scenario with a study and a small
@@ -118,6 +123,18 @@ struct ExportArgs {
 }
 
 #[derive(Args)]
+struct ExportMeshArgs {
+    /// Model file (JSON).
+    model: PathBuf,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    /// Mesh file format: `vtu` (XML, default) or `vtk` (legacy ASCII).
+    #[arg(long, value_enum, default_value_t = export_mesh::Format::Vtu)]
+    format: export_mesh::Format,
+}
+
+#[derive(Args)]
 struct RespondArgs {
     #[command(flatten)]
     common: Common,
@@ -158,6 +175,7 @@ fn main() -> ExitCode {
             block_size: a.block_size,
         }),
         Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
+        Command::ExportMesh(a) => export_mesh::run(&a.model, a.out.as_deref(), a.format),
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Init(a) => init::run(a.kind, a.out),
