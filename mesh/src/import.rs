@@ -592,4 +592,132 @@ mod tests {
         assert!(err(&d.0.join("missing.vtu"), "property").contains("does not exist"));
         assert!(err(&d.0.join("m.stl"), "property").contains("is not a .vtk"));
     }
+
+    /// A model importing `file` (in `dir`) with `properties` and `regions`.
+    fn model(dir: &Dir, file: &str, properties: &str, extra: &str) -> Result<crate::Structure, ModelError> {
+        let text = format!(
+            r#"{{
+            "materials": {{"s": {{"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}}}},
+            "sections": {{"r": {{"circle": {{"diameter": 0.01}}}}}},
+            "meshes": [{{"name": "part", "file": "{file}", "properties": {properties}, "scale": 0.5, "offset": [0, 0, 2]}}]
+            {extra}
+        }}"#
+        );
+        let m = crate::io::parse_model(&text, Path::new("t.json"))?;
+        crate::validate::validate_in(&m, &dir.0)
+    }
+
+    const SHELL_AND_BEAM: &str = r#"{"1": {"shell": {"thickness": 0.002, "material": "s"}},
+                                     "2": {"beam": {"section": "r", "material": "s", "orientation": [0, 0, 1]}}}"#;
+
+    /// A quad (property 1), a triangle (property 1) and a line (property `line_prop`).
+    fn plate(dir: &Dir, name: &str, line_prop: i32) -> PathBuf {
+        let vtk = grid(
+            vec![CellType::Quad, CellType::Triangle, CellType::Line],
+            vec![0, 1, 2, 3, 1, 4, 2, 3, 4],
+            vec![4, 7, 9],
+            prop(vec![1, 1, line_prop]),
+        );
+        write_vtu(dir, name, vtk)
+    }
+
+    #[test]
+    fn imported_cells_become_elements_with_their_properties_scale_and_offset() {
+        let d = Dir::new("model");
+        plate(&d, "p.vtu", 2);
+        let s = model(&d, "p.vtu", SHELL_AND_BEAM, "").unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(s.nodes.len(), 5);
+        assert_eq!(s.nodes[2].xyz, [0.5, 0.5, 2.0]);
+        assert_eq!(s.shells.len(), 2);
+        assert_eq!(s.beams.len(), 1);
+        assert_eq!(s.beams[0].label, "mesh \"part\" cell 2");
+        assert_eq!(s.beams[0].orientation, [0.0, 0.0, 1.0]);
+        assert!(s.shells.iter().all(|e| e.thickness == 0.002));
+        assert_eq!(s.meshes[0].property_nodes.get(&2), Some(&vec![3, 4]));
+        // Shell area: the quad (0.5 × 0.5) and the triangle under the scale 0.5.
+        let area: f64 = s.shells.iter().map(|e| e.shape.area).sum();
+        assert!((area - (0.25 + 0.25 * 0.5 * 0.5)).abs() < 1e-12, "{area}");
+    }
+
+    #[test]
+    fn mesh_regions_select_all_points_or_one_property() {
+        let d = Dir::new("regions");
+        plate(&d, "p.vtu", 2);
+        let regions = r#", "regions": {"all": {"mesh": "part"}, "bar": {"mesh": "part", "property": 2},
+                                          "corner": {"box": [[0.4, 0.4, 1.9], [0.6, 0.6, 2.1]]}},
+                           "supports": [{"at": {"region": "bar"}, "fixed": "clamped"}]"#;
+        let s = model(&d, "p.vtu", SHELL_AND_BEAM, regions).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(s.regions["all"], vec![0, 1, 2, 3, 4]);
+        assert_eq!(s.regions["bar"], vec![3, 4]);
+        assert_eq!(s.regions["corner"], vec![2]);
+        assert_eq!(s.fixed[3], [true; 6]);
+        let bad = r#", "regions": {"none": {"mesh": "part", "property": 7}}"#;
+        let e = model(&d, "p.vtu", SHELL_AND_BEAM, bad).err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("regions.none.property") && e.contains("property 7") && e.contains("selects no node"), "{e}");
+        let bad = r#", "regions": {"none": {"mesh": "other"}}"#;
+        let e = model(&d, "p.vtu", SHELL_AND_BEAM, bad).err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("mesh \"other\" is not defined"), "{e}");
+    }
+
+    #[test]
+    fn unknown_and_wrong_kind_properties_name_file_cell_and_value() {
+        let d = Dir::new("props");
+        plate(&d, "p.vtu", 3);
+        let e = model(&d, "p.vtu", SHELL_AND_BEAM, "").err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(
+            e.contains("p.vtu: cell 2 (a line) has property 3") && e.contains("defined: 1, 2"),
+            "{e}"
+        );
+        plate(&d, "q.vtu", 1);
+        let e = model(&d, "q.vtu", SHELL_AND_BEAM, "").err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("q.vtu: cell 2 is a line with property 1, which is a shell property"), "{e}");
+        let beams_only = r#"{"1": {"beam": {"section": "r", "material": "s"}}}"#;
+        let e = model(&d, "q.vtu", beams_only, "").err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("cell 0 is a quad with property 1, which is a beam property"), "{e}");
+        let e = model(&d, "q.vtu", r#"{"one": {"shell": {"thickness": 0.002, "material": "s"}}}"#, "")
+            .err()
+            .map(|e| e.to_string())
+            .unwrap_or_default();
+        assert!(e.contains("properties.\"one\"") && e.contains("not a property id"), "{e}");
+        let e = model(&d, "q.vtu", r#"{"1": {"shell": {"thickness": 0, "material": "s"}}}"#, "")
+            .err()
+            .map(|e| e.to_string())
+            .unwrap_or_default();
+        assert!(e.contains("thickness = 0"), "{e}");
+        let e = model(&d, "q.vtu", r#"{"1": {"shell": {"thickness": 0.001, "material": "x"}}}"#, "")
+            .err()
+            .map(|e| e.to_string())
+            .unwrap_or_default();
+        assert!(e.contains("material \"x\" is not defined"), "{e}");
+    }
+
+    #[test]
+    fn coincident_points_are_kept_apart_with_a_warning() {
+        let d = Dir::new("coincident");
+        // Two triangles on the same four corners, the second with its own copy of corner 2.
+        let mut vtk = grid(vec![CellType::Triangle, CellType::Triangle], vec![0, 1, 2, 0, 4, 3], vec![3, 6], prop(vec![1, 1]));
+        if let DataSet::UnstructuredGrid { pieces, .. } = &mut vtk.data {
+            if let Some(Piece::Inline(p)) = pieces.first_mut() {
+                p.points = IOBuffer::F64(vec![0.0, 0.0, 0.0, 1.0, 0.0, 0.0, 1.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0, 1.0, 0.0]);
+            }
+        }
+        write_vtu(&d, "c.vtu", vtk);
+        let s = model(&d, "c.vtu", SHELL_AND_BEAM, "").unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(s.nodes.len(), 5);
+        assert_ne!(s.shells[0].nodes[2], s.shells[1].nodes[1]);
+        assert!(s.warnings.iter().any(|w| w.contains("1 point(s)") && w.contains("not joined")), "{:?}", s.warnings);
+    }
+
+    #[test]
+    fn missing_file_and_duplicate_mesh_names_are_errors() {
+        let d = Dir::new("files");
+        let e = model(&d, "nothing.vtu", SHELL_AND_BEAM, "").err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("nothing.vtu") && e.contains("does not exist"), "{e}");
+        plate(&d, "p.vtu", 2);
+        let text = r#"{"materials": {"s": {"youngs_modulus": 2e11, "poisson_ratio": 0.3, "density": 7800}},
+            "meshes": [{"name": "a", "file": "p.vtu", "properties": {}}, {"name": "a", "file": "p.vtu", "properties": {}}]}"#;
+        let m = crate::io::parse_model(text, Path::new("t.json")).unwrap_or_else(|e| panic!("{e}"));
+        let e = crate::validate::validate_in(&m, &d.0).err().map(|e| e.to_string()).unwrap_or_default();
+        assert!(e.contains("meshes[1]") && e.contains("defined twice"), "{e}");
+    }
 }
