@@ -653,7 +653,10 @@ mod tests {
         assert_eq!(s.fixed[3], [true; 6]);
         let bad = r#", "regions": {"none": {"mesh": "part", "property": 7}}"#;
         let e = model(&d, "p.vtu", SHELL_AND_BEAM, bad).err().map(|e| e.to_string()).unwrap_or_default();
-        assert!(e.contains("regions.none.property") && e.contains("property 7") && e.contains("selects no node"), "{e}");
+        assert!(
+            e.contains("regions.none.property") && e.contains("property 7") && e.contains("selects no node"),
+            "{e}"
+        );
         let bad = r#", "regions": {"none": {"mesh": "other"}}"#;
         let e = model(&d, "p.vtu", SHELL_AND_BEAM, bad).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("mesh \"other\" is not defined"), "{e}");
@@ -664,10 +667,7 @@ mod tests {
         let d = Dir::new("props");
         plate(&d, "p.vtu", 3);
         let e = model(&d, "p.vtu", SHELL_AND_BEAM, "").err().map(|e| e.to_string()).unwrap_or_default();
-        assert!(
-            e.contains("p.vtu: cell 2 (a line) has property 3") && e.contains("defined: 1, 2"),
-            "{e}"
-        );
+        assert!(e.contains("p.vtu: cell 2 (a line) has property 3") && e.contains("defined: 1, 2"), "{e}");
         plate(&d, "q.vtu", 1);
         let e = model(&d, "q.vtu", SHELL_AND_BEAM, "").err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("q.vtu: cell 2 is a line with property 1, which is a shell property"), "{e}");
@@ -695,10 +695,12 @@ mod tests {
     fn coincident_points_are_kept_apart_with_a_warning() {
         let d = Dir::new("coincident");
         // Two triangles on the same four corners, the second with its own copy of corner 2.
-        let mut vtk = grid(vec![CellType::Triangle, CellType::Triangle], vec![0, 1, 2, 0, 4, 3], vec![3, 6], prop(vec![1, 1]));
+        let mut vtk =
+            grid(vec![CellType::Triangle, CellType::Triangle], vec![0, 1, 2, 0, 4, 3], vec![3, 6], prop(vec![1, 1]));
         if let DataSet::UnstructuredGrid { pieces, .. } = &mut vtk.data {
             if let Some(Piece::Inline(p)) = pieces.first_mut() {
-                p.points = IOBuffer::F64(vec![0.0, 0.0, 0.0, 1.0, 0.0, 0.0, 1.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0, 1.0, 0.0]);
+                p.points =
+                    IOBuffer::F64(vec![0.0, 0.0, 0.0, 1.0, 0.0, 0.0, 1.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0, 1.0, 0.0]);
             }
         }
         write_vtu(&d, "c.vtu", vtk);
