@@ -316,6 +316,14 @@ fn round_trip_fan_shaft() {
     round_trip("fan-shaft.json");
 }
 
+/// The imported-mesh example: its mesh file is found next to the model, and the design.json
+/// written to the output folder still finds it.
+#[test]
+fn happy_path_and_round_trip_imported_bracket() {
+    happy_path("imported-bracket.json", false);
+    round_trip("imported-bracket.json");
+}
+
 #[test]
 fn schema_prints_json_schema() {
     let tmp = temp();
