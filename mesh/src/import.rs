@@ -5,8 +5,9 @@
 //!
 //! Rules (docs/model-format.md repeats them):
 //! - Formats: what vtkio 0.6.3 reads. Legacy `.vtk` ASCII and binary (big-endian, as the legacy
-//!   format prescribes); XML `.vtu` with inline data, ascii or base64 `binary`, uncompressed.
-//!   Compressed `.vtu` files and appended data are not read by vtkio 0.6.3: they are errors.
+//!   format prescribes); XML `.vtu` uncompressed, with inline (`ascii` or base64 `binary`) or
+//!   appended (`raw` or `base64`) data. Compressed `.vtu` files (zlib, as VTK writes them) are not
+//!   read by vtkio 0.6.3: they are an error saying so (tests below).
 //! - Data sets: unstructured grids only, one or more inline pieces (joined in file order).
 //! - Cells: line → one two-node beam; polyline of k points → k − 1 beams; triangle, quad →
 //!   shells; vertex, poly-vertex → skipped (counted); every other type → an error naming the
@@ -721,5 +722,100 @@ mod tests {
         let m = crate::io::parse_model(text, Path::new("t.json")).unwrap_or_else(|e| panic!("{e}"));
         let e = crate::validate::validate_in(&m, &d.0).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("meshes[1]") && e.contains("defined twice"), "{e}");
+    }
+
+    /// The XML head of a one-quad `.vtu` with `compressor` (an attribute, or empty).
+    fn vtu_head(compressor: &str) -> String {
+        format!(
+            "<?xml version=\"1.0\"?>\n<VTKFile type=\"UnstructuredGrid\" version=\"1.0\" byte_order=\"LittleEndian\" \
+             header_type=\"UInt64\"{compressor}>\n<UnstructuredGrid><Piece NumberOfPoints=\"4\" NumberOfCells=\"1\">\n"
+        )
+    }
+
+    #[test]
+    fn ascii_and_appended_vtu_are_read() {
+        let d = Dir::new("xmlforms");
+        // format="ascii" data arrays.
+        let ascii = format!(
+            "{}<CellData><DataArray type=\"Int32\" Name=\"property\" format=\"ascii\">1</DataArray></CellData>\
+             <Points><DataArray type=\"Float64\" Name=\"Points\" NumberOfComponents=\"3\" format=\"ascii\">\
+             0 0 0 0.1 0 0 0.1 0.1 0 0 0.1 0</DataArray></Points>\
+             <Cells><DataArray type=\"Int64\" Name=\"connectivity\" format=\"ascii\">0 1 2 3</DataArray>\
+             <DataArray type=\"Int64\" Name=\"offsets\" format=\"ascii\">4</DataArray>\
+             <DataArray type=\"UInt8\" Name=\"types\" format=\"ascii\">9</DataArray></Cells>\n\
+             </Piece></UnstructuredGrid></VTKFile>\n",
+            vtu_head("")
+        );
+        let p = d.0.join("ascii.vtu");
+        std::fs::write(&p, ascii).unwrap_or_else(|e| panic!("{e}"));
+        let m = read_mesh(&p, "property", None).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!((m.points.len(), m.cells.len(), m.points[2]), (4, 1, [0.1, 0.1, 0.0]));
+        // Appended raw data: each block a UInt64 byte count and the little-endian values.
+        let blocks: Vec<Vec<u8>> = vec![
+            1i32.to_le_bytes().to_vec(),
+            [0.0f64, 0.0, 0.0, 0.1, 0.0, 0.0, 0.1, 0.1, 0.0, 0.0, 0.1, 0.0]
+                .iter()
+                .flat_map(|v| v.to_le_bytes())
+                .collect(),
+            [0i64, 1, 2, 3].iter().flat_map(|v| v.to_le_bytes()).collect(),
+            4i64.to_le_bytes().to_vec(),
+            vec![9u8],
+        ];
+        let mut data = Vec::new();
+        let mut offsets = Vec::new();
+        for b in &blocks {
+            offsets.push(data.len());
+            data.extend((b.len() as u64).to_le_bytes());
+            data.extend(b);
+        }
+        let arr = |t: &str, name: &str, nc: usize, k: usize| {
+            format!(
+                "<DataArray type=\"{t}\" Name=\"{name}\" NumberOfComponents=\"{nc}\" format=\"appended\" offset=\"{}\"/>",
+                offsets[k]
+            )
+        };
+        let mut file = format!(
+            "{}<CellData>{}</CellData><Points>{}</Points><Cells>{}{}{}</Cells>\n</Piece></UnstructuredGrid>\n\
+             <AppendedData encoding=\"raw\">_",
+            vtu_head(""),
+            arr("Int32", "property", 1, 0),
+            arr("Float64", "Points", 3, 1),
+            arr("Int64", "connectivity", 1, 2),
+            arr("Int64", "offsets", 1, 3),
+            arr("UInt8", "types", 1, 4)
+        )
+        .into_bytes();
+        file.extend(data);
+        file.extend(b"</AppendedData></VTKFile>\n");
+        let p = d.0.join("appended.vtu");
+        std::fs::write(&p, file).unwrap_or_else(|e| panic!("{e}"));
+        let m = read_mesh(&p, "property", None).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!((m.points.len(), m.cells.len(), m.points[2]), (4, 1, [0.1, 0.1, 0.0]));
+        assert_eq!(m.cells[0].kind, CellKind::Quad);
+    }
+
+    #[test]
+    fn zlib_compressed_vtu_is_a_clear_error() {
+        // A one-quad file as VTK writes it with zlib: per array a base64 header (blocks, block
+        // size, last size, compressed size) followed by the base64 compressed block.
+        let d = Dir::new("zlib");
+        let text = format!(
+            "{}<CellData><DataArray type=\"Int32\" Name=\"property\" format=\"binary\">\
+             AQAAAAAAAAAEAAAAAAAAAAQAAAAAAAAADAAAAAAAAAA=eJxjZGBgAAAACAAC</DataArray></CellData>\
+             <Points><DataArray type=\"Float64\" Name=\"Points\" NumberOfComponents=\"3\" format=\"binary\">\
+             AQAAAAAAAABgAAAAAAAAAGAAAAAAAAAAFwAAAAAAAAA=eJxjYMAOZs0EgZ32uMQJycP4AOa2Ej0=</DataArray></Points>\
+             <Cells><DataArray type=\"Int64\" Name=\"connectivity\" format=\"binary\">\
+             AQAAAAAAAAAgAAAAAAAAACAAAAAAAAAAEwAAAAAAAAA=eJxjYIAARijNBKWZoTQAAHAABw==</DataArray>\
+             <DataArray type=\"Int64\" Name=\"offsets\" format=\"binary\">\
+             AQAAAAAAAAAIAAAAAAAAAAgAAAAAAAAACwAAAAAAAAA=eJxjYYAAAAAoAAU=</DataArray>\
+             <DataArray type=\"UInt8\" Name=\"types\" format=\"binary\">\
+             AQAAAAAAAAABAAAAAAAAAAEAAAAAAAAACQAAAAAAAAA=eJzjBAAACgAK</DataArray></Cells>\n\
+             </Piece></UnstructuredGrid></VTKFile>\n",
+            vtu_head(" compressor=\"vtkZLibDataCompressor\"")
+        );
+        let p = d.0.join("zlib.vtu");
+        std::fs::write(&p, text).unwrap_or_else(|e| panic!("{e}"));
+        let e = err(&p, "property");
+        assert!(e.contains("zlib.vtu") && e.contains("cannot be read as VTK") && e.contains("uncompressed"), "{e}");
     }
 }

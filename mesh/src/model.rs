@@ -1130,7 +1130,7 @@ impl<'de> Deserialize<'de> for Region {
 // ---------------------------------------------------------------------------------------------
 
 /// Beams and shells read from a VTK unstructured grid: legacy `.vtk` (ASCII or big-endian binary)
-/// or XML `.vtu` (inline data, uncompressed).
+/// or XML `.vtu` (uncompressed; inline or appended data).
 ///
 /// Every point of the file becomes a node (coordinates × `scale` + `offset`), as stored: coincident
 /// points are not merged (a warning names them) and imported nodes are not joined to the nodes of
