@@ -112,7 +112,7 @@ pub(crate) fn read_mesh(
                 "file",
                 format!(
                     "cannot be read as VTK ({e}); antinode reads legacy .vtk (ASCII or big-endian binary) and \
-                     uncompressed .vtu with inline data"
+                     uncompressed .vtu"
                 ),
             ));
         }
