@@ -187,7 +187,12 @@ pub fn export_mesh(
             MeshFormat::Vtu => Version::new((1, 0)),
             MeshFormat::LegacyVtk => Version::new((4, 2)),
         },
-        title: if s.title.is_empty() { "antinode mesh".into() } else { s.title.replace('\n', " ") },
+        // One line; the legacy header line holds at most 256 characters.
+        title: if s.title.is_empty() {
+            "antinode mesh".into()
+        } else {
+            s.title.replace(['\n', '\r'], " ").chars().take(255).collect()
+        },
         byte_order: ByteOrder::BigEndian,
         file_path: None,
         data: DataSet::inline(UnstructuredGridPiece {

@@ -16,6 +16,10 @@
 //!   about the axis, right-handed, from the reference direction (global Y made perpendicular to the
 //!   axis, or global Z for an axis along Y). Panels lie in the global X-Y plane with normals along
 //!   +Z; panel coordinates (u, v) run along X and Y from the panel's origin.
+//! - Imported meshes (`meshes`, VTK `.vtk`/`.vtu`): every point of the file is a node, as stored
+//!   (coordinates × `scale` + `offset`, never merged); lines and polyline segments become beams,
+//!   triangles and quads shells, with the property their cell's integer tag names. Mesh files are
+//!   found relative to the folder given to [`validate_in`] ([`validate`]: the working folder).
 //!
 //! # Example
 //! ```
