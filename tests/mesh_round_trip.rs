@@ -193,3 +193,29 @@ fn exported_model_uses_mesh_properties_and_named_sections() {
     assert_eq!(imported.meshes[0].nodes.len(), original.nodes.len());
     assert!((imported.total_mass() - original.total_mass()).abs() <= 1e-12 * original.total_mass());
 }
+
+/// The comparison has teeth: the same export with one shell thickness changed by 0.1 % gives K
+/// entries that differ by far more than the round-trip tolerance.
+#[test]
+fn a_changed_thickness_is_seen_by_the_matrix_comparison() {
+    let model: Model = parse_model(PANEL, Path::new("original.json")).unwrap_or_else(|e| panic!("{e}"));
+    let original = validate(&model).unwrap_or_else(|e| panic!("{e}"));
+    let dir = Dir::new("teeth");
+    let mut export = export_mesh(&model, &original, "part.vtu", MeshFormat::Vtu).unwrap_or_else(|e| panic!("{e}"));
+    std::fs::write(dir.0.join("part.vtu"), &export.mesh).unwrap_or_else(|e| panic!("{e}"));
+    for p in export.model.meshes[0].properties.values_mut() {
+        if let antinode::mesh::MeshProperty::Shell(s) = p {
+            s.thickness *= 1.001;
+        }
+    }
+    let changed = validate_in(&export.model, &dir.0).unwrap_or_else(|e| panic!("{e}"));
+    let a = assemble(&original, AssemblyOptions::default()).unwrap_or_else(|e| panic!("{e}"));
+    let b = assemble(&changed, AssemblyOptions::default()).unwrap_or_else(|e| panic!("{e}"));
+    let [ka, _] = matrices(&a, &dir.0, "a");
+    let [kb, _] = matrices(&b, &dir.0, "b");
+    let scale = ka.values().fold(0.0f64, |s, v| s.max(v.abs()));
+    let worst = ka.iter().map(|(k, v)| (v - kb[k]).abs()).fold(0.0f64, f64::max);
+    // Membrane terms grow as t and bending terms as t³, so entries change by 0.1 to 0.3 %; asking for
+    // 1e-4 of the largest entry is still 1e10 times the round-trip tolerance.
+    assert!(worst > 1e-4 * scale, "a 0.1 % thicker panel changed K by only {worst:.3e} of {scale:.3e}");
+}

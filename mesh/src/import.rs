@@ -519,6 +519,21 @@ mod tests {
     }
 
     #[test]
+    fn little_endian_legacy_binary_is_an_error_not_a_misread() {
+        // Legacy binary VTK is big-endian by definition; a little-endian file must not be read as
+        // if it were (that would give wrong coordinates silently).
+        let d = Dir::new("le");
+        let mut vtk = grid(vec![CellType::Quad, CellType::Line], vec![0, 1, 2, 3, 3, 4], vec![4, 6], prop(vec![1, 2]));
+        vtk.byte_order = ByteOrder::LittleEndian;
+        let mut binary = Vec::new();
+        vtk.write_legacy(&mut binary).unwrap_or_else(|e| panic!("{e}"));
+        let p = d.0.join("le.vtk");
+        std::fs::write(&p, binary).unwrap_or_else(|e| panic!("{e}"));
+        let e = err(&p, "property");
+        assert!(e.contains("le.vtk") && e.contains("cannot be read as VTK"), "{e}");
+    }
+
+    #[test]
     fn unsupported_cell_type_names_file_cell_and_type() {
         let d = Dir::new("tetra");
         let vtk = grid(vec![CellType::Line, CellType::Tetra], vec![0, 1, 0, 1, 2, 4], vec![2, 6], prop(vec![1, 1]));
