@@ -24,6 +24,7 @@ use crate::model::{
     MeshImport, MeshProperty, Model, NodesRegion, PointMass, Region, Section, ShellProperty, Spring, SpringEnd,
     Support,
 };
+use crate::section::section_properties;
 use crate::structure::{AbsorberDamping, Structure};
 
 /// Name of the cell array of property ids in exported meshes.
@@ -79,7 +80,13 @@ pub fn export_mesh(
     let mut next = 1i32;
     let mut cell_props: Vec<i32> = Vec::with_capacity(s.beams.len() + s.shells.len());
     for b in &s.beams {
-        let section = match model.sections.get(&b.section_name) {
+        // A named section is copied only if it is what the beam was built from (a generated
+        // tube's section has a name of its own, which a model section could repeat).
+        let named = model
+            .sections
+            .get(&b.section_name)
+            .filter(|sec| section_properties(sec, b.material.poisson_ratio) == b.section);
+        let section = match named {
             Some(sec) => {
                 sections.insert(b.section_name.clone(), sec.clone());
                 b.section_name.clone()
