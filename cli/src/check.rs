@@ -19,6 +19,8 @@ struct CheckReport {
     lines: usize,
     tubes: Vec<String>,
     panels: Vec<String>,
+    /// Imported meshes: name, file and point count.
+    meshes: Vec<MeshRow>,
     /// Region name → number of nodes it selects.
     regions: std::collections::BTreeMap<String, usize>,
     /// Link name → kind and number of member nodes.
@@ -43,6 +45,14 @@ struct LinkRow {
     kind: &'static str,
     reference_node: u64,
     members: usize,
+}
+
+/// One imported mesh as `check` reports it.
+#[derive(Serialize)]
+struct MeshRow {
+    name: String,
+    file: String,
+    nodes: usize,
 }
 
 #[derive(Serialize)]
@@ -92,6 +102,11 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         lines: s.lines.len(),
         tubes: s.tubes.iter().map(|t| t.name.clone()).collect(),
         panels: s.panels.iter().map(|p| p.name.clone()).collect(),
+        meshes: s
+            .meshes
+            .iter()
+            .map(|m| MeshRow { name: m.name.clone(), file: m.file.display().to_string(), nodes: m.nodes.len() })
+            .collect(),
         regions: s.regions.iter().map(|(k, v)| (k.clone(), v.len())).collect(),
         links: s
             .links
@@ -129,6 +144,12 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         vec!["lines".into(), report.lines.to_string()],
         vec!["tubes".into(), list(&report.tubes)],
         vec!["panels".into(), list(&report.panels)],
+        vec![
+            "meshes (nodes)".into(),
+            list(
+                &report.meshes.iter().map(|m| format!("{} from {} ({})", m.name, m.file, m.nodes)).collect::<Vec<_>>(),
+            ),
+        ],
         vec![
             "regions (nodes)".into(),
             list(&report.regions.iter().map(|(k, v)| format!("{k} ({v})")).collect::<Vec<_>>()),

@@ -87,6 +87,8 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let s = &l.structure;
     // The model with the new absorbers, ready for `antinode respond`.
     let mut model = l.model.clone();
+    // design.json goes to the output folder: its mesh files are named by absolute paths.
+    antinode_mesh::resolve_mesh_files(&mut model, crate::pipeline::model_folder(path));
     let first = model.absorbers.len();
     for (i, a) in d.absorbers.iter().enumerate() {
         model.absorbers.push(Absorber {

@@ -3,6 +3,7 @@
 mod check;
 mod correlate;
 mod design;
+mod export_mesh;
 mod init;
 mod modes;
 mod output;
@@ -48,6 +49,10 @@ enum Command {
     /// with a second model on the same nodes (--against MODEL): MAC matrix, pairs, frequency
     /// errors, poor pairs flagged; writes correlation.json and correlation.svg.
     Correlate(CorrelateArgs),
+    /// Write the model's beams and shells as one VTK mesh (a `property` cell array, a `node_id`
+    /// point array) and a model file that imports it, with supports, springs, masses, links and
+    /// absorbers by node id: <name>-mesh.vtu (or .vtk) and <name>-mesh.json.
+    ExportMesh(ExportMeshArgs),
     /// Print the JSON Schema of the model file.
     Schema,
     /// Write a complete starter model to edit (an invented scenario with a study and a small
@@ -158,6 +163,18 @@ struct ExportArgs {
 }
 
 #[derive(Args)]
+struct ExportMeshArgs {
+    /// Model file (JSON).
+    model: PathBuf,
+    /// Output directory (default: out/<model name>).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    /// Mesh file format: `vtu` (XML, default) or `vtk` (legacy ASCII).
+    #[arg(long, value_enum, default_value_t = export_mesh::Format::Vtu)]
+    format: export_mesh::Format,
+}
+
+#[derive(Args)]
 struct RespondArgs {
     #[command(flatten)]
     common: Common,
@@ -208,6 +225,7 @@ fn main() -> ExitCode {
             amplitude: a.amplitude,
         }),
         Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
+        Command::ExportMesh(a) => export_mesh::run(&a.model, a.out.as_deref(), a.format),
         Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Init(a) => init::run(a.kind, a.out),

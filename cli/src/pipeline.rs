@@ -4,7 +4,7 @@
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 
-use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate};
+use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate_in};
 use antinode_solver::{
     AssemblyOptions, EigenParams, ModalSolution, ModeRequest, System, assemble, check_zero_energy, solve_modes,
 };
@@ -21,10 +21,16 @@ pub struct Loaded {
     pub structure: Structure,
 }
 
-/// Reads and validates a model file; errors name the file.
+/// The folder of a model file, against which its relative mesh file names are read.
+pub fn model_folder(path: &Path) -> &Path {
+    path.parent().unwrap_or(Path::new(""))
+}
+
+/// Reads and validates a model file (mesh files relative to its folder); errors name the file.
 pub fn load(path: &Path) -> Result<Loaded> {
     let model = load_model(path)?;
-    let structure = validate(&model).with_context(|| format!("invalid model {}", path.display()))?;
+    let structure =
+        validate_in(&model, model_folder(path)).with_context(|| format!("invalid model {}", path.display()))?;
     Ok(Loaded { path: path.to_path_buf(), model, structure })
 }
 

@@ -321,6 +321,14 @@ fn round_trip_fan_shaft() {
     round_trip("fan-shaft.json");
 }
 
+/// The imported-mesh example: its mesh file is found next to the model, and the design.json
+/// written to the output folder still finds it.
+#[test]
+fn happy_path_and_round_trip_imported_bracket() {
+    happy_path("imported-bracket.json", false);
+    round_trip("imported-bracket.json");
+}
+
 #[test]
 fn schema_prints_json_schema() {
     let tmp = temp();
@@ -1529,4 +1537,155 @@ fn correlate_refuses_a_second_model_with_another_mesh() {
         Some(&example("gantry-boom.json")),
         &["the meshes differ", "node 1", "has no node of", "same mesh"],
     );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Mesh import and export
+// ---------------------------------------------------------------------------------------------
+
+/// A legacy ASCII VTK file: two quads (property 1) of a 0.2 × 0.1 m plate and one line
+/// (property 2) hanging below; `cell_types` and `cell_data` replace those sections.
+fn plate_vtk(cell_types: &str, cell_data: &str) -> String {
+    format!(
+        "# vtk DataFile Version 4.2\nInvented test plate\nASCII\nDATASET UNSTRUCTURED_GRID\n\
+         POINTS 7 double\n0 0 0 0.1 0 0 0.2 0 0 0 0.1 0 0.1 0.1 0 0.2 0.1 0 0.1 0.1 -0.1\n\
+         CELLS 3 13\n4 0 1 4 3\n4 1 2 5 4\n2 4 6\nCELL_TYPES 3\n{cell_types}\n{cell_data}"
+    )
+}
+
+const PLATE_TYPES: &str = "9\n9\n3";
+const PLATE_DATA: &str = "CELL_DATA 3\nSCALARS property int 1\nLOOKUP_TABLE default\n1 1 2\n";
+
+/// A model importing `plate.vtk`, clamped along x = 0.
+fn mesh_model() -> Value {
+    json!({
+        "title": "Invented test model: a small plate with a hanging rod, imported from VTK",
+        "materials": {"s": {"youngs_modulus": 2.0e11, "poisson_ratio": 0.3, "density": 7800}},
+        "sections": {"rod": {"circle": {"diameter": 0.01}}},
+        "meshes": [{"name": "plate", "file": "plate.vtk", "properties": {
+            "1": {"shell": {"thickness": 0.002, "material": "s"}},
+            "2": {"beam": {"section": "rod", "material": "s"}}}}],
+        "regions": {"edge": {"box": [[0, 0, -1], [0, 1, 1]]}},
+        "supports": [{"at": {"region": "edge"}, "fixed": "clamped"}]
+    })
+}
+
+/// Writes `model.json` and `plate.vtk`, runs `check`, `modes` and `export-mesh` on them and checks
+/// that each fails cleanly, naming the model file and every `expect` fragment, writing nothing.
+fn assert_mesh_rejected(model: &Value, vtk: &str, expect: &[&str]) {
+    for command in ["check", "modes", "export-mesh"] {
+        let tmp = temp();
+        let dir = tmp.path();
+        let path = dir.join("model.json");
+        std::fs::write(&path, pretty(model)).expect("model written");
+        std::fs::write(dir.join("plate.vtk"), vtk).expect("mesh written");
+        let out = dir.join("out");
+        let mut args = vec![OsStr::new(command), path.as_os_str()];
+        if command != "check" {
+            args.extend([OsStr::new("--out"), out.as_os_str()]);
+        }
+        let r = antinode(dir, &args);
+        let context =
+            format!("`antinode {command}`\n--- exit {:?}\n--- stdout\n{}\n--- stderr\n{}", r.code, r.stdout, r.stderr);
+        assert!(!r.stderr.contains("panicked"), "panic: {context}");
+        assert_eq!(r.code, Some(ERROR_EXIT_CODE), "exit code: {context}");
+        assert!(r.stderr.starts_with("error: ") && r.stderr.contains("model.json"), "{context}");
+        for e in expect {
+            assert!(r.stderr.contains(e), "the message lacks {e:?}: {context}");
+        }
+        assert_eq!(entries(dir), set(&["model.json", "plate.vtk"]), "files left behind; {context}");
+    }
+}
+
+#[test]
+fn imported_mesh_model_checks_and_exports_to_the_same_modes() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let path = dir.join("model.json");
+    std::fs::write(&path, pretty(&mesh_model())).expect("model written");
+    std::fs::write(dir.join("plate.vtk"), plate_vtk(PLATE_TYPES, PLATE_DATA)).expect("mesh written");
+    let r = antinode(dir, [OsStr::new("check"), path.as_os_str(), "--json".as_ref()]);
+    r.assert_success("check of the imported model");
+    let j = r.json();
+    assert_eq!(j["nodes"].as_u64(), Some(7));
+    assert_eq!(j["shells"].as_u64(), Some(2));
+    assert_eq!(j["beams"].as_u64(), Some(1));
+    // Export the imported model again and compare the modes of both.
+    let out = dir.join("exported");
+    let r = antinode(dir, [OsStr::new("export-mesh"), path.as_os_str(), "--out".as_ref(), out.as_os_str()]);
+    r.assert_success("export-mesh");
+    assert_files(&out, &["model-mesh.json", "model-mesh.vtu"]);
+    let freqs = |model: &Path, out: &Path| -> Vec<f64> {
+        let r = antinode(
+            dir,
+            [
+                OsStr::new("modes"),
+                model.as_os_str(),
+                "--count".as_ref(),
+                "4".as_ref(),
+                "--json".as_ref(),
+                "--out".as_ref(),
+                out.as_os_str(),
+            ],
+        );
+        r.assert_success("modes");
+        r.json()["modes"]
+            .as_array()
+            .expect("modes array")
+            .iter()
+            .map(|m| num(&m["frequency_hz"], "frequency_hz"))
+            .collect()
+    };
+    let a = freqs(&path, &dir.join("m1"));
+    let b = freqs(&out.join("model-mesh.json"), &dir.join("m2"));
+    assert_eq!(a.len(), 4);
+    for (x, y) in a.iter().zip(&b) {
+        // Same K and M (tests/mesh_round_trip.rs), so the same frequencies to round-off.
+        assert!((x - y).abs() <= 1e-12 * x, "{x} Hz vs {y} Hz");
+    }
+}
+
+#[test]
+fn rejects_unsupported_cell_type() {
+    let vtk = plate_vtk("9\n9\n10", PLATE_DATA).replace("2 4 6\n", "4 0 1 4 6\n").replace("CELLS 3 13", "CELLS 3 15");
+    assert_mesh_rejected(&mesh_model(), &vtk, &["plate.vtk", "cell 2", "VTK cell type 10 (tetra)"]);
+}
+
+#[test]
+fn rejects_mesh_without_property_tags() {
+    assert_mesh_rejected(
+        &mesh_model(),
+        &plate_vtk(PLATE_TYPES, ""),
+        &["plate.vtk", "cell data \"property\" is missing"],
+    );
+    let other = PLATE_DATA.replace("property", "tag");
+    assert_mesh_rejected(&mesh_model(), &plate_vtk(PLATE_TYPES, &other), &["its cell arrays are \"tag\""]);
+    let float = PLATE_DATA.replace("int", "float");
+    assert_mesh_rejected(&mesh_model(), &plate_vtk(PLATE_TYPES, &float), &["not integers"]);
+}
+
+#[test]
+fn rejects_unknown_mesh_property_id() {
+    let data = PLATE_DATA.replace("1 1 2", "1 5 2");
+    assert_mesh_rejected(
+        &mesh_model(),
+        &plate_vtk(PLATE_TYPES, &data),
+        &["plate.vtk", "cell 1 (a quad) has property 5", "defined: 1, 2"],
+    );
+    let data = PLATE_DATA.replace("1 1 2", "1 1 1");
+    assert_mesh_rejected(
+        &mesh_model(),
+        &plate_vtk(PLATE_TYPES, &data),
+        &["cell 2 is a line with property 1, which is a shell property"],
+    );
+}
+
+#[test]
+fn rejects_missing_mesh_file_and_unknown_mesh_region() {
+    let mut m = mesh_model();
+    m["meshes"][0]["file"] = json!("elsewhere.vtu");
+    assert_mesh_rejected(&m, &plate_vtk(PLATE_TYPES, PLATE_DATA), &["elsewhere.vtu", "does not exist"]);
+    let mut m = mesh_model();
+    m["regions"]["rod"] = json!({"mesh": "plate", "property": 3});
+    assert_mesh_rejected(&m, &plate_vtk(PLATE_TYPES, PLATE_DATA), &["regions.rod.property", "selects no node"]);
 }

@@ -44,7 +44,7 @@ fuzz_target!(|data: &[u8]| {
     }
     let Ok(text) = serde_json::to_string(&model) else { return };
     let Ok(model) = parse_model(&text, Path::new("fuzz.json")) else { return };
-    let Ok(structure) = validate_with(&model, &LIMITS) else { return };
+    let Ok(structure) = validate_with(&model, Path::new(""), &LIMITS) else { return };
     if structure.nodes.len() > ASSEMBLE_MAX_NODES {
         return;
     }

@@ -20,7 +20,7 @@ const ASSEMBLE_MAX_NODES: usize = 400;
 fuzz_target!(|data: &[u8]| {
     let Ok(text) = std::str::from_utf8(data) else { return };
     let Ok(model) = parse_model(text, Path::new("fuzz.json")) else { return };
-    let Ok(structure) = validate_with(&model, &LIMITS) else { return };
+    let Ok(structure) = validate_with(&model, Path::new(""), &LIMITS) else { return };
     if structure.nodes.len() > ASSEMBLE_MAX_NODES {
         return;
     }

@@ -129,6 +129,16 @@ pub enum ModelError {
         /// What is wrong and how to fix it.
         message: String,
     },
+    /// A mesh file that cannot be imported: its format, a cell, a point or an array.
+    #[error("{path}: {at} {message}")]
+    MeshFile {
+        /// The mesh file.
+        path: PathBuf,
+        /// The place in the file, e.g. `cell 17` (cells and points count from 0).
+        at: String,
+        /// What is wrong and what is allowed.
+        message: String,
+    },
     /// Writing an output file failed.
     #[error("cannot write {path}: {message}")]
     Write {

@@ -16,6 +16,10 @@
 //!   about the axis, right-handed, from the reference direction (global Y made perpendicular to the
 //!   axis, or global Z for an axis along Y). Panels lie in the global X-Y plane with normals along
 //!   +Z; panel coordinates (u, v) run along X and Y from the panel's origin.
+//! - Imported meshes (`meshes`, VTK `.vtk`/`.vtu`): every point of the file is a node, as stored
+//!   (coordinates × `scale` + `offset`, never merged); lines and polyline segments become beams,
+//!   triangles and quads shells, with the property their cell's integer tag names. Mesh files are
+//!   found relative to the folder given to [`validate_in`] ([`validate`]: the working folder).
 //!
 //! # Example
 //! ```
@@ -36,7 +40,9 @@
 //! ```
 
 mod error;
+mod export;
 mod generate;
+mod import;
 mod io;
 mod model;
 mod quality;
@@ -47,15 +53,17 @@ mod validate;
 mod vtk;
 
 pub use error::ModelError;
+pub use export::{MeshExport, MeshFormat, NODE_ID_ARRAY, PROPERTY_ARRAY, export_mesh};
+pub use import::resolve_mesh_files;
 pub use io::{load_model, model_schema_json, parse_model, write_atomic};
 pub use model::{
-    Absorber, AbsorberDesign, AutoWord, Axis, Beam, Bearing, BoxRegion, CandidateSet, CircleSection,
+    Absorber, AbsorberDesign, AutoWord, Axis, Beam, BeamProperty, Bearing, BoxRegion, CandidateSet, CircleSection,
     CircularTubeSection, Direction, Dof, DofValues, EdgePreset, EdgeSupport, ElasticEdge, ElementId, EndPreset,
     ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Link, LinkKind, LinkMembers, Location,
-    MassMatrix, Material, Model, Mount, Node, NodeId, NodesRegion, Objective, Panel, PanelEdge, PanelEdges,
-    PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell,
-    Sphere, SphereRegion, Spring, SpringEnd, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting,
-    TubeFittings, TubeRegion, TubeSegment,
+    MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId, NodesRegion, Objective,
+    Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region,
+    ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Study, Support,
+    Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -64,10 +72,10 @@ pub use quality::{
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, ElementParts, LineNodes, LinkSpec,
-    MaterialProperties, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure,
-    StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
+    MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement,
+    Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
-pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_with};
+pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
 pub use vtk::{
     NodalScalars, NodalVectors, build_vtu, build_vtu_displaced, kind as cell_kind, pvd_collection, vtu_bytes, write_vtu,
 };

@@ -63,6 +63,10 @@ pub struct Model {
     /// Parametric flat rectangular panels in the global X-Y plane, meshed as shells.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub panels: Vec<Panel>,
+    /// Beams and shells read from VTK unstructured-grid files (`.vtk`, `.vtu`), with an integer cell
+    /// array mapped to shell and beam properties.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub meshes: Vec<MeshImport>,
     /// Named sets of nodes, used by locations (`{"region": name}`) and absorber candidates.
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     pub regions: BTreeMap<String, Region>,
@@ -956,9 +960,9 @@ pub struct Mount {
 }
 
 /// A named set of nodes. Give exactly one form: `{"tube", ...}`, `{"panel", ...}`,
-/// `{"box": [[x0, y0, z0], [x1, y1, z1]]}`, `{"sphere": {"centre", "radius"}}` or
-/// `{"nodes": [ids]}`; the form is the first of the keys `tube`, `panel`, `box`, `sphere`, `nodes`
-/// that the object has. A region that selects no node is an error.
+/// `{"mesh", ...}`, `{"box": [[x0, y0, z0], [x1, y1, z1]]}`, `{"sphere": {"centre", "radius"}}` or
+/// `{"nodes": [ids]}`; the form is the first of the keys `tube`, `panel`, `mesh`, `box`, `sphere`,
+/// `nodes` that the object has. A region that selects no node is an error.
 #[derive(Debug, Clone, PartialEq, Serialize, JsonSchema)]
 #[serde(untagged)]
 pub enum Region {
@@ -966,6 +970,8 @@ pub enum Region {
     Tube(TubeRegion),
     /// Part of a panel.
     Panel(PanelRegion),
+    /// Nodes of an imported mesh.
+    Mesh(MeshRegion),
     /// An axis-aligned box in global coordinates.
     Box(BoxRegion),
     /// A ball in global coordinates.
@@ -1085,7 +1091,7 @@ pub struct NodesRegion {
     pub nodes: Vec<NodeId>,
 }
 
-/// A region's form is chosen by its keys (`tube`, `panel`, `box`, `sphere`, `nodes`, in that order),
+/// A region's form is chosen by its keys (`tube`, `panel`, `mesh`, `box`, `sphere`, `nodes`, in that order),
 /// so a mistake inside one form is reported against that form (an unknown field, a wrong type)
 /// rather than as "matches no variant".
 impl<'de> Deserialize<'de> for Region {
@@ -1094,7 +1100,7 @@ impl<'de> Deserialize<'de> for Region {
         let value = serde_json::Value::deserialize(deserializer)?;
         let serde_json::Value::Object(map) = &value else {
             return Err(D::Error::custom(
-                "a region is an object: {\"tube\": ...}, {\"panel\": ...}, {\"box\": ...}, {\"sphere\": ...} or {\"nodes\": [...]}",
+                "a region is an object: {\"tube\": ...}, {\"panel\": ...}, {\"mesh\": ...}, {\"box\": ...}, {\"sphere\": ...} or {\"nodes\": [...]}",
             ));
         };
         let has = |k: &str| map.contains_key(k);
@@ -1102,6 +1108,8 @@ impl<'de> Deserialize<'de> for Region {
             serde_json::from_value(value).map(Region::Tube)
         } else if has("panel") {
             serde_json::from_value(value).map(Region::Panel)
+        } else if has("mesh") {
+            serde_json::from_value(value).map(Region::Mesh)
         } else if has("box") {
             serde_json::from_value(value).map(Region::Box)
         } else if has("sphere") {
@@ -1110,9 +1118,90 @@ impl<'de> Deserialize<'de> for Region {
             serde_json::from_value(value).map(Region::Nodes)
         } else {
             return Err(D::Error::custom(
-                "a region needs one of the keys \"tube\", \"panel\", \"box\", \"sphere\" or \"nodes\"",
+                "a region needs one of the keys \"tube\", \"panel\", \"mesh\", \"box\", \"sphere\" or \"nodes\"",
             ));
         };
         parsed.map_err(D::Error::custom)
     }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Imported meshes
+// ---------------------------------------------------------------------------------------------
+
+/// Beams and shells read from a VTK unstructured grid: legacy `.vtk` (ASCII or big-endian binary)
+/// or XML `.vtu` (uncompressed; inline or appended data).
+///
+/// Every point of the file becomes a node (coordinates × `scale` + `offset`), as stored: coincident
+/// points are not merged (a warning names them) and imported nodes are not joined to the nodes of
+/// other parts (use a link). Cells: lines → one beam, polylines → one beam per segment, triangles
+/// and quadrilaterals → shells, vertices and poly-vertices → ignored (a warning counts them); any
+/// other cell type is an error. Each beam or shell takes the property whose id is the cell's value
+/// in the integer cell array `property_array`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct MeshImport {
+    /// Name, unique among meshes; used by regions (`{"mesh": name}`).
+    pub name: String,
+    /// The mesh file, relative to the folder of the model file (or absolute); `.vtk` or `.vtu`.
+    pub file: String,
+    /// Name of the integer cell-data array that holds each cell's property id. Default `property`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub property_array: Option<String>,
+    /// Name of an integer point-data array that holds each point's node id (positive, unique in
+    /// the model). Default: none, the nodes get generated ids after the model's largest.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub node_id_array: Option<String>,
+    /// Properties by id (the JSON key is the integer id as text, e.g. `"1"`).
+    pub properties: BTreeMap<String, MeshProperty>,
+    /// Factor from the file's length unit to metres (0.001 for a file in mm). Default 1.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scale: Option<f64>,
+    /// Translation added after scaling, in m. Default none.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub offset: Option<[f64; 3]>,
+}
+
+/// What the cells with one property id are: `{"shell": {...}}` or `{"beam": {...}}`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum MeshProperty {
+    /// Triangles and quadrilaterals: flat shells (see [`Shell`]).
+    Shell(ShellProperty),
+    /// Lines and polylines: two-node beams (see [`Beam`]).
+    Beam(BeamProperty),
+}
+
+/// Wall of imported shells, as in [`Shell`] and [`Panel`].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct ShellProperty {
+    /// Wall thickness, in m.
+    pub thickness: f64,
+    /// Material name.
+    pub material: String,
+}
+
+/// Section of imported beams, as in [`Beam`] and [`Line`].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct BeamProperty {
+    /// Section name.
+    pub section: String,
+    /// Material name.
+    pub material: String,
+    /// Orientation vector (see [`Beam::orientation`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub orientation: Option<[f64; 3]>,
+}
+
+/// Nodes of an imported mesh: every node of the file, or the nodes of its cells with one property.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct MeshRegion {
+    /// Mesh name.
+    pub mesh: String,
+    /// Only the nodes of beams and shells with this property id. Default: every point of the file.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub property: Option<i64>,
 }

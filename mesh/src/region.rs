@@ -7,14 +7,16 @@
 //!   range when (θ − a0) mod 360 ≤ span, span = a1 − a0 (+ 360 when negative).
 //! - panel: the nodes on an edge, inside a box of panel coordinates (edges included), or the grid
 //!   node nearest a point inside the panel.
+//! - mesh: every point of an imported mesh file, or the nodes of its beams and shells of one
+//!   property id.
 //! - box: nodes inside an axis-aligned box (faces included, slack 1e-9 of the model size); sphere:
 //!   nodes within the radius (the same slack); nodes: the listed ids.
 
 use std::collections::HashMap;
 
 use crate::error::ModelError;
-use crate::model::{Fidelity, NodeId, PanelEdge, PanelRegion, Region, RingEnd, TubeRegion};
-use crate::structure::{PanelNodes, StructureNode, TubeNodes, distance};
+use crate::model::{Fidelity, MeshRegion, NodeId, PanelEdge, PanelRegion, Region, RingEnd, TubeRegion};
+use crate::structure::{MeshNodes, PanelNodes, StructureNode, TubeNodes, distance};
 
 /// Slack of angle comparisons, in degrees.
 const ANGLE_SLACK_DEG: f64 = 1e-9;
@@ -32,6 +34,8 @@ pub(crate) struct RegionContext<'a> {
     pub tubes: &'a [TubeNodes],
     /// Generated panels.
     pub panels: &'a [PanelNodes],
+    /// Imported meshes.
+    pub meshes: &'a [MeshNodes],
     /// Length under which two coordinates count as equal, in m.
     pub slack: f64,
     /// The defined node ids, in words, for messages.
@@ -55,6 +59,7 @@ pub(crate) fn select(at: &str, region: &Region, cx: &RegionContext<'_>) -> Resul
     let mut nodes = match region {
         Region::Tube(t) => tube_nodes(at, t, cx)?,
         Region::Panel(p) => panel_nodes(at, p, cx)?,
+        Region::Mesh(m) => mesh_nodes(at, m, cx)?,
         Region::Box(b) => {
             let [lo, hi] = b.corners;
             for k in 0..3 {
@@ -193,6 +198,37 @@ fn tube_nodes(at: &str, r: &TubeRegion, cx: &RegionContext<'_>) -> Result<Vec<us
         }
     };
     Ok(stations.iter().flat_map(|&j| (0..around).filter(|&k| keep[k]).map(move |k| tube.rings[j][k])).collect())
+}
+
+fn mesh_nodes(at: &str, r: &MeshRegion, cx: &RegionContext<'_>) -> Result<Vec<usize>, ModelError> {
+    let mesh = cx.meshes.iter().find(|m| m.name == r.mesh).ok_or_else(|| ModelError::UnknownName {
+        at: format!("{at}.mesh"),
+        kind: "mesh",
+        name: r.mesh.clone(),
+        hint: names_hint(cx.meshes.iter().map(|m| m.name.as_str())),
+    })?;
+    match r.property {
+        None => Ok(mesh.nodes.clone()),
+        Some(p) => match mesh.property_nodes.get(&p) {
+            Some(list) => Ok(list.clone()),
+            None => {
+                let used: Vec<String> = mesh.property_nodes.keys().map(i64::to_string).collect();
+                Err(invalid(
+                    &format!("{at}.property"),
+                    format!(
+                        "no beam or shell of mesh \"{}\" has property {p}, so this region selects no node (its cells \
+                         have {})",
+                        mesh.name,
+                        if used.is_empty() {
+                            "no property".to_string()
+                        } else {
+                            format!("properties {}", used.join(", "))
+                        }
+                    ),
+                ))
+            }
+        },
+    }
 }
 
 fn panel_nodes(at: &str, r: &PanelRegion, cx: &RegionContext<'_>) -> Result<Vec<usize>, ModelError> {

@@ -2,20 +2,22 @@
 //! checked.
 
 use std::collections::{BTreeMap, HashMap};
+use std::path::{Path, PathBuf};
 
 use crate::error::ModelError;
 use crate::generate::{Part, panel_part, tube_part};
+use crate::import::{CellKind, MeshData, read_mesh};
 use crate::model::{
-    CandidateSet, Direction, ElementId, Fixity, FixityPreset, LinkKind, Location, MassMatrix, Model, NodeId, Objective,
-    Section, SpringEnd, Targets,
+    CandidateSet, Direction, ElementId, Fixity, FixityPreset, LinkKind, Location, MassMatrix, MeshProperty, Model,
+    NodeId, Objective, Section, SpringEnd, Targets,
 };
 use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, WARP_WARNING_DEG, shell_shape};
 use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
-    NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
-    TargetSpec, TubeNodes, bounding_diagonal, distance,
+    MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode,
+    StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -48,24 +50,38 @@ impl Default for Limits {
     }
 }
 
-/// Checks `model` and resolves names, ids and locations, within the default [`Limits`].
+/// Checks `model` and resolves names, ids and locations, within the default [`Limits`]; mesh files
+/// (`meshes[].file`) are found relative to the working folder. For a model read from a file use
+/// [`validate_in`] with the file's folder.
 ///
 /// # Errors
 /// The first problem found, naming the item by its JSON path and saying what is wrong.
 pub fn validate(model: &Model) -> Result<Structure, ModelError> {
-    validate_with(model, &Limits::default())
+    validate_in(model, Path::new(""))
 }
 
-/// [`validate`] within the given limits.
+/// Checks `model` and resolves names, ids and locations within the default [`Limits`]; relative
+/// mesh file names (`meshes[].file`) are joined to `folder` (the folder of the model file).
 ///
 /// # Errors
-/// As [`validate`]; a model above `limits` is refused before its parts are generated.
-pub fn validate_with(model: &Model, limits: &Limits) -> Result<Structure, ModelError> {
-    let mut b = Builder::new(model, *limits)?;
+/// The first problem found, naming the item by its JSON path (or the mesh file and its cell) and
+/// saying what is wrong.
+pub fn validate_in(model: &Model, folder: &Path) -> Result<Structure, ModelError> {
+    validate_with(model, folder, &Limits::default())
+}
+
+/// [`validate_in`] within the given limits.
+///
+/// # Errors
+/// As [`validate_in`]; a model above `limits` is refused before its parts are generated.
+pub fn validate_with(model: &Model, folder: &Path, limits: &Limits) -> Result<Structure, ModelError> {
+    let meshes = read_meshes(model, folder)?;
+    let mut b = Builder::new(model, &meshes, *limits)?;
     b.nodes()?;
     b.lines()?;
     b.tubes()?;
     b.panels()?;
+    b.meshes(&meshes)?;
     b.regions()?;
     b.links()?;
     b.beams()?;
@@ -91,6 +107,7 @@ pub fn validate_with(model: &Model, limits: &Limits) -> Result<Structure, ModelE
         lines: b.lines,
         tubes: b.tubes,
         panels: b.panels,
+        meshes: b.meshes,
         regions: b.regions,
         links: b.links,
         mass_matrix: model.mass_matrix.unwrap_or(MassMatrix::Consistent),
@@ -135,6 +152,7 @@ struct Builder<'a> {
     tube_index: HashMap<&'a str, usize>,
     panels: Vec<PanelNodes>,
     panel_index: HashMap<&'a str, usize>,
+    meshes: Vec<MeshNodes>,
     regions: BTreeMap<String, Vec<usize>>,
     /// Shells of generated parts, after the explicit ones.
     generated_shells: Vec<ShellElement>,
@@ -243,8 +261,64 @@ fn direction(at: &str, d: &Direction) -> Result<DirectionSpec, ModelError> {
     }
 }
 
+/// A mesh file named by the model, read, with its place in the model.
+struct ReadMesh {
+    /// The file as found.
+    path: PathBuf,
+    /// Length factor to metres.
+    scale: f64,
+    /// Translation after scaling, in m.
+    offset: [f64; 3],
+    data: MeshData,
+}
+
+impl ReadMesh {
+    /// Coordinates of point `k` in the model, in m.
+    fn point(&self, k: usize) -> [f64; 3] {
+        let p = self.data.points[k];
+        [0, 1, 2].map(|d| p[d] * self.scale + self.offset[d])
+    }
+}
+
+/// Reads every mesh file of `model` (names unique and non-empty, scale and offset finite).
+fn read_meshes(model: &Model, folder: &Path) -> Result<Vec<ReadMesh>, ModelError> {
+    let mut seen: HashMap<&str, usize> = HashMap::new();
+    let mut out = Vec::with_capacity(model.meshes.len());
+    for (i, m) in model.meshes.iter().enumerate() {
+        let at = format!("meshes[{i}]");
+        if m.name.trim().is_empty() {
+            return Err(ModelError::Invalid { at, message: "a mesh needs a non-empty name".into() });
+        }
+        if let Some(&first) = seen.get(m.name.as_str()) {
+            return Err(ModelError::Duplicate {
+                at,
+                kind: "mesh",
+                id: format!("\"{}\"", m.name),
+                first: format!("meshes[{first}]"),
+                key: "name",
+            });
+        }
+        seen.insert(m.name.as_str(), i);
+        let named = format!("{at} (\"{}\")", m.name);
+        let scale = m.scale.unwrap_or(1.0);
+        check_positive(&named, "scale", scale)?;
+        let offset = m.offset.unwrap_or([0.0; 3]);
+        check_point(&format!("{named}.offset"), offset)?;
+        if m.file.trim().is_empty() {
+            return Err(ModelError::Invalid {
+                at: format!("{named}.file"),
+                message: "give the mesh file (.vtk or .vtu), relative to the model file".into(),
+            });
+        }
+        let path = folder.join(&m.file);
+        let data = read_mesh(&path, m.property_array.as_deref().unwrap_or("property"), m.node_id_array.as_deref())?;
+        out.push(ReadMesh { path, scale, offset, data });
+    }
+    Ok(out)
+}
+
 impl<'a> Builder<'a> {
-    fn new(model: &'a Model, limits: Limits) -> Result<Self, ModelError> {
+    fn new(model: &'a Model, meshes: &[ReadMesh], limits: Limits) -> Result<Self, ModelError> {
         let mut materials = BTreeMap::new();
         for (name, m) in &model.materials {
             let at = format!("materials.{name}");
@@ -293,8 +367,10 @@ impl<'a> Builder<'a> {
                 .chain(model.lines.iter().flat_map(|l| [l.from, l.to]))
                 .chain(model.tubes.iter().flat_map(tube_extent))
                 .chain(model.panels.iter().flat_map(panel_extent))
+                .chain(meshes.iter().flat_map(|m| (0..m.data.points.len()).map(|k| m.point(k))))
                 .filter(|p| p.iter().all(|v| v.is_finite())),
         );
+        let largest_mesh_id = meshes.iter().filter_map(|m| m.data.node_ids.as_ref()).flatten().copied().max();
         let tol = (MERGE_TOLERANCE * size).max(1e-12);
         Ok(Self {
             model,
@@ -311,6 +387,7 @@ impl<'a> Builder<'a> {
             tube_index: HashMap::new(),
             panels: Vec::new(),
             panel_index: HashMap::new(),
+            meshes: Vec::new(),
             regions: BTreeMap::new(),
             generated_shells: Vec::new(),
             generated_fixed: Vec::new(),
@@ -318,7 +395,7 @@ impl<'a> Builder<'a> {
             generated_masses: Vec::new(),
             links: Vec::new(),
             link_index: HashMap::new(),
-            next_node: model.nodes.iter().map(|n| n.id.0).max().map_or(1, |m| m + 1),
+            next_node: model.nodes.iter().map(|n| n.id.0).chain(largest_mesh_id).max().map_or(1, |m| m + 1),
             next_beam: model.beams.iter().map(|b| b.id.0).max().map_or(1, |m| m + 1),
             next_shell: model.shells.iter().map(|e| e.id.0).max().map_or(1, |m| m + 1),
             warnings: Vec::new(),
@@ -474,6 +551,210 @@ impl<'a> Builder<'a> {
         Ok(())
     }
 
+    /// Imported meshes: every point a node (as stored, never merged), every line, polyline
+    /// segment, triangle and quad an element of the property its cell names.
+    fn meshes(&mut self, read: &[ReadMesh]) -> Result<(), ModelError> {
+        let model = self.model;
+        for (mi, (m, r)) in model.meshes.iter().zip(read).enumerate() {
+            let named = format!("meshes[{mi}] (\"{}\")", m.name);
+            if r.data.points.len() > self.nodes_left() {
+                return Err(ModelError::Invalid {
+                    at: format!("{named}.file"),
+                    message: format!(
+                        "{}: {} points are more than the {} left within the model's node limit",
+                        r.path.display(),
+                        r.data.points.len(),
+                        self.nodes_left()
+                    ),
+                });
+            }
+            let array = m.property_array.as_deref().unwrap_or("property");
+            // Properties by id, checked once each.
+            let mut props: BTreeMap<i64, &MeshProperty> = BTreeMap::new();
+            let mut sections: BTreeMap<i64, &'a Section> = BTreeMap::new();
+            let mut materials: BTreeMap<i64, MaterialProperties> = BTreeMap::new();
+            for (key, p) in &m.properties {
+                let at = format!("{named}.properties.\"{key}\"");
+                let id: i64 = key.trim().parse().map_err(|_| ModelError::Invalid {
+                    at: at.clone(),
+                    message: format!("\"{key}\" is not a property id; give the integer id as text, e.g. \"1\""),
+                })?;
+                match p {
+                    MeshProperty::Shell(sp) => {
+                        check_positive(&format!("{at}.shell"), "thickness", sp.thickness)?;
+                        materials.insert(id, self.material(&format!("{at}.shell.material"), &sp.material)?);
+                    }
+                    MeshProperty::Beam(bp) => {
+                        sections.insert(id, self.section(&format!("{at}.beam.section"), &bp.section)?);
+                        self.material(&format!("{at}.beam.material"), &bp.material)?;
+                        if let Some(v) = bp.orientation {
+                            check_point(&format!("{at}.beam.orientation"), v)?;
+                        }
+                    }
+                }
+                if props.insert(id, p).is_some() {
+                    return Err(ModelError::Invalid {
+                        at,
+                        message: format!("property id {id} is given twice (as keys that read as the same integer)"),
+                    });
+                }
+            }
+            let defined: Vec<String> = props.keys().map(i64::to_string).collect();
+            let defined = if defined.is_empty() {
+                "none is defined".to_string()
+            } else {
+                format!("defined: {}", defined.join(", "))
+            };
+            // Nodes.
+            let data = &r.data;
+            let mut nodes = Vec::with_capacity(data.points.len());
+            let mut coincident: Vec<(u64, u64)> = Vec::new();
+            let mut n_coincident = 0usize;
+            for k in 0..data.points.len() {
+                let p = r.point(k);
+                let id = match &data.node_ids {
+                    Some(ids) => NodeId(ids[k]),
+                    None => {
+                        self.next_node += 1;
+                        NodeId(self.next_node - 1)
+                    }
+                };
+                let path = format!("{named} point {k}");
+                if let Some(first) = self.node_path.get(&id) {
+                    return Err(ModelError::Duplicate {
+                        at: path,
+                        kind: "node",
+                        id: id.to_string(),
+                        first: first.clone(),
+                        key: "id",
+                    });
+                }
+                if let Some(other) = self.grid.find(p, &self.nodes) {
+                    n_coincident += 1;
+                    if coincident.len() < 5 {
+                        coincident.push((id.0, self.nodes[other].id.0));
+                    }
+                }
+                let i = self.nodes.len();
+                self.nodes.push(StructureNode { id, xyz: p });
+                self.node_index.insert(id, i);
+                self.node_path.insert(id, path);
+                self.grid.insert(p, i);
+                nodes.push(i);
+            }
+            if n_coincident > 0 {
+                let shown: Vec<String> = coincident.iter().map(|(a, b)| format!("{a} at {b}")).collect();
+                self.warnings.push(format!(
+                    "{named}: {n_coincident} point(s) of {} lie on another node and are not joined to it \
+                     (node {}{}); imported points are taken as stored: merge them in the mesh, or tie them with a link",
+                    r.path.display(),
+                    shown.join(", node "),
+                    if n_coincident > shown.len() { ", ..." } else { "" }
+                ));
+            }
+            if data.skipped_vertices > 0 {
+                self.warnings.push(format!(
+                    "{named}: {} vertex cell(s) of {} are skipped; point masses, springs and supports go in the model file",
+                    data.skipped_vertices,
+                    r.path.display()
+                ));
+            }
+            // Elements.
+            let mut property_nodes: BTreeMap<i64, Vec<usize>> = BTreeMap::new();
+            for c in &data.cells {
+                let at_cell = format!("cell {}", c.index);
+                let Some(prop) = props.get(&c.property) else {
+                    return Err(ModelError::MeshFile {
+                        path: r.path.clone(),
+                        at: at_cell,
+                        message: format!(
+                            "({}) has property {} in the cell array \"{array}\", which {named}.properties does not \
+                             define ({defined}); add it to the model's properties",
+                            c.kind.noun(),
+                            c.property
+                        ),
+                    });
+                };
+                let cell_nodes: Vec<usize> = c.points.iter().map(|&k| nodes[k]).collect();
+                let wrong = |want: &str| ModelError::MeshFile {
+                    path: r.path.clone(),
+                    at: at_cell.clone(),
+                    message: format!(
+                        "is {} with property {}, which is a {} property; give {} cells a {{\"{want}\": ...}} property",
+                        c.kind.noun(),
+                        c.property,
+                        if want == "beam" { "shell" } else { "beam" },
+                        if want == "beam" { "line" } else { "triangle and quad" },
+                    ),
+                };
+                let label = if c.segment > 0 {
+                    format!("mesh \"{}\" cell {} segment {}", m.name, c.index, c.segment + 1)
+                } else {
+                    format!("mesh \"{}\" cell {}", m.name, c.index)
+                };
+                match (c.kind, prop) {
+                    (CellKind::Beam, MeshProperty::Beam(bp)) => {
+                        let e = self.beam_element(BeamSource {
+                            id: ElementId(self.next_beam),
+                            label,
+                            at: &format!("{named}.properties.\"{}\".beam", c.property),
+                            nodes: [cell_nodes[0], cell_nodes[1]],
+                            section_name: &bp.section,
+                            section: sections[&c.property],
+                            material: &bp.material,
+                            orientation: bp.orientation,
+                            line: None,
+                        })?;
+                        self.next_beam += 1;
+                        self.beams.push(e);
+                    }
+                    (CellKind::Triangle | CellKind::Quad, MeshProperty::Shell(sp)) => {
+                        let mut distinct = cell_nodes.clone();
+                        distinct.sort_unstable();
+                        distinct.dedup();
+                        if distinct.len() != cell_nodes.len() {
+                            return Err(ModelError::MeshFile {
+                                path: r.path.clone(),
+                                at: at_cell,
+                                message: format!(
+                                    "({}) repeats a point ({:?}); give distinct corners",
+                                    c.kind.noun(),
+                                    c.points
+                                ),
+                            });
+                        }
+                        let xyz: Vec<[f64; 3]> = cell_nodes.iter().map(|&n| self.nodes[n].xyz).collect();
+                        let shape = shell_shape(&xyz).map_err(|d| ModelError::MeshFile {
+                            path: r.path.clone(),
+                            at: at_cell.clone(),
+                            message: format!("({}) has an unusable shape: {d}", c.kind.noun()),
+                        })?;
+                        let id = ElementId(self.next_shell);
+                        self.next_shell += 1;
+                        self.generated_shells.push(ShellElement {
+                            id,
+                            label,
+                            nodes: cell_nodes.clone(),
+                            thickness: sp.thickness,
+                            material_name: sp.material.clone(),
+                            material: materials[&c.property],
+                            shape,
+                        });
+                    }
+                    (CellKind::Beam, MeshProperty::Shell(_)) => return Err(wrong("beam")),
+                    (_, MeshProperty::Beam(_)) => return Err(wrong("shell")),
+                }
+                property_nodes.entry(c.property).or_default().extend(cell_nodes);
+            }
+            for list in property_nodes.values_mut() {
+                list.sort_unstable();
+                list.dedup();
+            }
+            self.meshes.push(MeshNodes { name: m.name.clone(), file: r.path.clone(), nodes, property_nodes });
+        }
+        Ok(())
+    }
+
     /// Joins a generated part: its points become nodes (merging with existing ones), its shells,
     /// fixed DOFs and springs are kept for later; returns the node index of each local point.
     fn join(
@@ -549,6 +830,7 @@ impl<'a> Builder<'a> {
             node_index: &self.node_index,
             tubes: &self.tubes,
             panels: &self.panels,
+            meshes: &self.meshes,
             slack: self.grid.tolerance,
             node_hint: &hint,
         };
@@ -1899,9 +2181,9 @@ mod tests {
                                      "divisions": [4, 1]}]"#;
         let Ok(m) = model(10, panel) else { panic!("parsed") };
         let limits = Limits { max_nodes: 20 };
-        let e = validate_with(&m, &limits).err().map(|e| e.to_string()).unwrap_or_default();
+        let e = validate_with(&m, Path::new(""), &limits).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("panels[0]") && e.contains("more than the 9 left"), "{e}");
-        assert!(validate_with(&m, &Limits { max_nodes: 21 }).is_ok());
+        assert!(validate_with(&m, Path::new(""), &Limits { max_nodes: 21 }).is_ok());
     }
 
     #[test]
