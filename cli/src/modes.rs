@@ -175,8 +175,26 @@ fn residual_warnings(sol: &ModalSolution) -> Vec<String> {
     )]
 }
 
+/// Most modes one `--count` asks for: beyond this a band request (`--max-frequency`) is the way to
+/// get every mode up to a frequency, with the Sturm check proving none is missing.
+const MAX_COUNT: usize = 2000;
+
+/// The eigen request of the options; a count above the number of free DOFs or above [`MAX_COUNT`]
+/// is capped, with a note on standard error.
 fn request(o: &Options, n_dofs: usize) -> Result<ModeRequest> {
-    Ok(match (o.count, o.min_frequency, o.max_frequency) {
+    let count = o.count.map(|c| {
+        let capped = c.min(n_dofs).min(MAX_COUNT);
+        if capped < c {
+            let why = if capped == n_dofs {
+                format!("the model has {n_dofs} free DOFs, so that is every mode")
+            } else {
+                format!("more than {MAX_COUNT} modes: give --max-frequency HZ to get every mode up to a frequency")
+            };
+            eprintln!("note: --count {c} capped at {capped} ({why})");
+        }
+        capped
+    });
+    Ok(match (count, o.min_frequency, o.max_frequency) {
         (Some(c), lo, Some(hi)) => ModeRequest::BandCapped { low_hz: lo.unwrap_or(0.0), high_hz: hi, max_count: c },
         (None, lo, Some(hi)) => ModeRequest::Band { low_hz: lo.unwrap_or(0.0), high_hz: hi },
         (_, Some(_), None) => bail!("--min-frequency needs --max-frequency"),
