@@ -27,6 +27,10 @@ struct Cli {
     /// factorizations); default: RAYON_NUM_THREADS, else one per core. Results do not depend on it.
     #[arg(long, global = true, value_parser = clap::value_parser!(u16).range(1..=1024))]
     threads: Option<u16>,
+    /// Replace existing files in an output folder that holds no earlier antinode results (a
+    /// folder antinode wrote before is replaced without asking).
+    #[arg(long, global = true)]
+    force: bool,
 }
 
 #[derive(Subcommand)]
@@ -195,6 +199,9 @@ struct DesignArgs {
 fn main() -> ExitCode {
     antinode_solver::init();
     let cli = Cli::parse();
+    if cli.force {
+        pipeline::force_overwrite();
+    }
     if let Some(n) = cli.threads {
         if let Err(e) = rayon::ThreadPoolBuilder::new().num_threads(usize::from(n)).build_global() {
             eprintln!("error: cannot start {n} worker threads: {e}");

@@ -2,6 +2,7 @@
 //! progress display.
 
 use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::Duration;
 
 use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate_in};
@@ -70,6 +71,19 @@ pub fn study_modes(l: &Loaded, system: &System, zero: usize, progress: &Progress
     Ok(sol)
 }
 
+/// A file marking a folder as holding this program's results: later runs may replace them.
+pub const MARKER: &str = ".antinode-outputs";
+
+const MARKER_TEXT: &str = "This folder holds results written by antinode; later runs may replace them.\n";
+
+/// Set by `--force`: existing files in any output folder may be replaced.
+static FORCE: AtomicBool = AtomicBool::new(false);
+
+/// Lets every output folder's existing files be replaced (`--force`).
+pub fn force_overwrite() {
+    FORCE.store(true, Ordering::Relaxed);
+}
+
 /// The output files of one command, made all or nothing.
 ///
 /// Each file is first written in full under a hidden staging name in the output folder; only
@@ -79,6 +93,10 @@ pub fn study_modes(l: &Loaded, system: &System, zero: usize, progress: &Progress
 /// as they were. (Should a rename fail, the files already renamed are removed too.)
 pub struct Outputs {
     dir: PathBuf,
+    /// The folder is this program's: made by this run, or holding the marker of an earlier run
+    /// ([`MARKER`]); its files may be replaced. Otherwise an existing file is replaced only with
+    /// `--force`.
+    own: bool,
     /// Folders this run created, deepest first.
     created: Vec<PathBuf>,
     /// (staging name, real name) of each file written.
@@ -101,7 +119,8 @@ impl Outputs {
         };
         let created: Vec<PathBuf> =
             dir.ancestors().take_while(|a| !a.as_os_str().is_empty() && !a.exists()).map(Path::to_path_buf).collect();
-        let outputs = Self { dir, created, staged: Vec::new(), placed: Vec::new(), committed: false };
+        let own = !created.is_empty() || !dir.exists() || dir.join(MARKER).is_file() || FORCE.load(Ordering::Relaxed);
+        let outputs = Self { dir, own, created, staged: Vec::new(), placed: Vec::new(), committed: false };
         std::fs::create_dir_all(&outputs.dir)
             .with_context(|| format!("cannot create output folder {}", outputs.dir.display()))?;
         Ok(outputs)
@@ -152,13 +171,25 @@ impl Outputs {
             .with_context(|| format!("cannot write {}", self.path(name).display()))
     }
 
-    /// Renames every written file to its real name.
+    /// Renames every written file to its real name. In a folder that is not this program's (see
+    /// `own`), an existing file of the same name is an error and nothing is renamed.
     pub fn commit(mut self) -> Result<()> {
+        if !self.own {
+            if let Some((_, real)) = self.staged.iter().find(|(_, real)| real.exists()) {
+                bail!(
+                    "{} exists and {} holds no earlier antinode results; give --force to replace it, or another --out",
+                    real.display(),
+                    self.dir.display()
+                );
+            }
+        }
         // On a failed rename, dropping `self` removes the rest.
         for (staging, real) in &self.staged {
             std::fs::rename(staging, real).with_context(|| format!("cannot write {}", real.display()))?;
             self.placed.push(real.clone());
         }
+        antinode_mesh::write_atomic(&self.dir.join(MARKER), MARKER_TEXT.as_bytes())
+            .with_context(|| format!("cannot write {}", self.dir.join(MARKER).display()))?;
         self.committed = true;
         Ok(())
     }

@@ -63,14 +63,19 @@ fn example(name: &str) -> PathBuf {
 }
 
 /// Names of the entries of a folder (empty if it does not exist).
+/// The files in `dir`, except the marker of a folder holding antinode results.
 fn entries(dir: &Path) -> BTreeSet<String> {
     std::fs::read_dir(dir)
         .into_iter()
         .flatten()
         .flatten()
         .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|n| n != OUTPUT_MARKER)
         .collect()
 }
+
+/// Marks an output folder as antinode's (cli/src/pipeline.rs).
+const OUTPUT_MARKER: &str = ".antinode-outputs";
 
 fn set(names: &[&str]) -> BTreeSet<String> {
     names.iter().map(|s| s.to_string()).collect()
@@ -1711,4 +1716,29 @@ fn rejects_missing_mesh_file_and_unknown_mesh_region() {
     let mut m = mesh_model();
     m["regions"]["rod"] = json!({"mesh": "plate", "property": 3});
     assert_mesh_rejected(&m, &plate_vtk(PLATE_TYPES, PLATE_DATA), &["regions.rod.property", "selects no node"]);
+}
+
+/// Existing files in a folder antinode did not write are replaced only with --force; a folder
+/// antinode wrote before is its own.
+#[test]
+fn outputs_replace_foreign_files_only_with_force() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = example("fan-shaft.json");
+    let out = dir.join("results");
+    std::fs::create_dir_all(&out).expect("folder");
+    std::fs::write(out.join("modes.json"), "someone else's file").expect("file");
+    let args =
+        [OsStr::new("modes"), model.as_os_str(), "--count".as_ref(), "3".as_ref(), "--out".as_ref(), out.as_os_str()];
+    let r = antinode(dir, args);
+    assert_eq!(r.code, Some(ERROR_EXIT_CODE), "{}", r.stderr);
+    assert!(r.stderr.contains("modes.json exists") && r.stderr.contains("--force"), "{}", r.stderr);
+    assert_eq!(std::fs::read_to_string(out.join("modes.json")).expect("kept"), "someone else's file");
+    assert_eq!(entries(&out), set(&["modes.json"]), "nothing else written");
+    let mut forced = args.to_vec();
+    forced.push("--force".as_ref());
+    antinode(dir, &forced).assert_success("modes --force");
+    assert!(out.join(OUTPUT_MARKER).is_file(), "the folder is marked as antinode's");
+    // Now the folder is antinode's own: a second run replaces its files without --force.
+    antinode(dir, args).assert_success("modes again into its own folder");
 }

@@ -207,6 +207,12 @@ fn cases() -> Vec<Case> {
             expect: &["cannot create output folder model.json"],
         },
         Case {
+            class: "output-exists",
+            model: edited(|_| {}),
+            command: &["modes", "model.json", "--count", "2", "--out", "."],
+            expect: &["exists and", "holds no earlier antinode results", "--force"],
+        },
+        Case {
             class: "file-exists",
             model: edited(|_| {}),
             command: &["init", "beam", "--out", "model.json"],
@@ -240,6 +246,10 @@ fn every_catalogued_error_is_triggered_with_its_message_and_exit_code() {
         let dir = tempfile::tempdir().expect("a temporary folder");
         if !case.model.is_empty() {
             std::fs::write(dir.path().join("model.json"), &case.model).expect("model written");
+        }
+        if case.class == "output-exists" {
+            // A file of someone else's where `modes` would write its table.
+            std::fs::write(dir.path().join("modes.json"), "not antinode's").expect("file written");
         }
         let out = Command::new(BIN).current_dir(dir.path()).args(case.command).output().expect("the binary runs");
         let stderr = String::from_utf8_lossy(&out.stderr);
