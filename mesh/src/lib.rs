@@ -55,7 +55,7 @@ pub use model::{
     MassMatrix, Material, Model, Mount, Node, NodeId, NodesRegion, Objective, Panel, PanelEdge, PanelEdges,
     PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell,
     Sphere, SphereRegion, Spring, SpringEnd, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting,
-    TubeFittings, TubeRegion, TubeSegment,
+    TubeFittings, TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -65,7 +65,7 @@ pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
     NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
-    TargetSpec, TubeNodes, bounding_diagonal, distance,
+    TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_with};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};
