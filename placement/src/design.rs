@@ -479,7 +479,7 @@ fn choose_targets(sm: &StudyModel, spec: &DesignSpec) -> Result<Vec<TargetMode>,
             for &m in list {
                 if m > n {
                     return Err(PlacementError::Design(format!(
-                        "target mode {m} is not among the {n} computed modes (up to {:.2} Hz); raise \
+                        "study.absorber_design.targets: target mode {m} is not among the {n} computed modes (up to {:.2} Hz); raise \
                          study.max_mode_frequency_hz or choose a lower mode",
                         sm.natural_hz.last().copied().unwrap_or(0.0)
                     )));
