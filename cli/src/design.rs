@@ -63,6 +63,20 @@ struct DesignReport {
     peak_change_db: f64,
     rms_before: f64,
     rms_after: f64,
+    /// Band peaks in dB re 1 m/N (per newton of the reference force), nominal.
+    peak_before_db: f64,
+    peak_after_db: f64,
+    /// Highest band peak over the uncertainty scenarios, before and after, in m/N and dB re 1 m/N.
+    worst_case_peak_before: f64,
+    worst_case_peak_after: f64,
+    worst_case_peak_before_db: f64,
+    worst_case_peak_after_db: f64,
+    worst_case_change_db: f64,
+    /// Peaks and strokes per uncertainty scenario.
+    scenarios: Vec<antinode_placement::ScenarioResult>,
+    /// True when the stroke limit (and the mass limits) hold in every scenario.
+    constraints_met: bool,
+    constraints: antinode_placement::constraints::ConstraintReport,
     files: Vec<String>,
     caution: &'static str,
 }
@@ -188,6 +202,16 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         peak_change_db: db(d.after.receptance, d.before.receptance),
         rms_before: d.rms_before,
         rms_after: d.rms_after,
+        peak_before_db: db(d.before.receptance, 1.0),
+        peak_after_db: db(d.after.receptance, 1.0),
+        worst_case_peak_before: d.worst_case_before,
+        worst_case_peak_after: d.worst_case_after,
+        worst_case_peak_before_db: db(d.worst_case_before, 1.0),
+        worst_case_peak_after_db: db(d.worst_case_after, 1.0),
+        worst_case_change_db: db(d.worst_case_after, d.worst_case_before),
+        scenarios: d.scenarios.clone(),
+        constraints_met: d.constraints.constraints_met,
+        constraints: d.constraints.clone(),
         files: [&model_path, &result_path, &svg_path, &csv_path, &vtu_path]
             .iter()
             .map(|p| p.display().to_string())
@@ -203,9 +227,16 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     outputs.commit()?;
     drop(progress);
     if json {
-        return print_json(&report);
+        print_json(&report)?;
+    } else {
+        print_human(&report, spec.mass_each);
     }
-    print_human(&report, spec.mass_each);
+    if let Some(m) = &report.constraints.message {
+        bail!(
+            "{}: constraints not met: {m}. The best design found is written, marked \"constraints_met\": false",
+            path.display()
+        );
+    }
     Ok(())
 }
 
@@ -315,6 +346,58 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         r.rms_after,
         db(r.rms_after, r.rms_before)
     );
+    let rows = r
+        .absorbers
+        .iter()
+        .map(|a| {
+            let d = &a.designed;
+            let band = |v: Option<[f64; 2]>, f: fn(f64) -> String| match v {
+                Some([lo, hi]) => format!("{} .. {}", f(lo), f(hi)),
+                None => "-".into(),
+            };
+            vec![
+                a.name.clone(),
+                format!("{:.4e}", d.max_stroke_m),
+                format!("{:.4e}", d.worst_case_stroke_m),
+                format!("{:.4e}", d.max_spring_force_n),
+                format!("{:.4e}", d.static_sag_m),
+                band(d.tolerance_band, |x| format!("{:+.1} %", 100.0 * x)),
+                band(d.tolerance_band_hz, |x| format!("{x:.3}")),
+            ]
+        })
+        .collect();
+    println!("at the stated excitation (tolerance band: drift of the tuning at which the dB benefit halves):");
+    println!(
+        "{}",
+        table(
+            &[
+                "absorber",
+                "stroke [m]",
+                "worst-case stroke [m]",
+                "spring force [N]",
+                "static sag [m]",
+                "tolerance band",
+                "tuned range [Hz]"
+            ],
+            rows
+        )
+    );
+    if r.scenarios.len() > 1 {
+        println!(
+            "worst case over {} scenarios: before {:.4e} m/N, after {:.4e} m/N ({:+.2} dB)",
+            r.scenarios.len(),
+            r.worst_case_peak_before,
+            r.worst_case_peak_after,
+            r.worst_case_change_db
+        );
+    }
+    match (&r.constraints.message, r.constraints.stroke_limit_m) {
+        (Some(m), _) => println!("CONSTRAINTS NOT MET: {m}"),
+        (None, Some(l)) => {
+            println!("stroke limit {l:.4e} m met: worst-case stroke {:.4e} m", r.constraints.worst_stroke_m)
+        }
+        (None, None) => {}
+    }
     println!("wrote {}", r.files.join(", "));
     println!("{}", r.caution);
 }
