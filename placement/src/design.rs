@@ -320,9 +320,9 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     let x0 = problem.start_point();
     let start_values = problem.evaluate(&start);
     problem.scale = problem.objective_value(&start_values);
-    let (coarse, mut problem) = run(problem, x0, 1.0, 80)?;
+    let (coarse, mut problem) = run(problem, x0, 1.0, 80, 1e-6)?;
     problem.accurate = true;
-    let (fine, mut problem) = run(problem, coarse.param.clone(), 0.2, 30)?;
+    let (fine, mut problem) = run(problem, coarse.param.clone(), 0.2, 20, 1e-9)?;
     let mut iterations = coarse.iterations + fine.iterations;
     let mut chosen = fine;
     let mut values = problem.evaluate(&chosen.links);
@@ -332,7 +332,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         if Problem::worst_stroke(&values) * f0 > limit * (1.0 + 1e-3) {
             problem.goal = Goal::Stroke;
             problem.accurate = false;
-            let (least, p) = run(problem, chosen.param.clone(), 1.0, 80)?;
+            let (least, p) = run(problem, chosen.param.clone(), 1.0, 80, 1e-6)?;
             problem = p;
             iterations += least.iterations;
             let least_values = problem.evaluate(&least.links);
@@ -340,7 +340,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
             if achievable <= limit {
                 // Feasible: the best response among designs that meet the limit, from there.
                 problem.goal = Goal::Response;
-                let (again, p) = run(problem, least.param.clone(), 0.5, 60)?;
+                let (again, p) = run(problem, least.param.clone(), 0.5, 60, 1e-6)?;
                 problem = p;
                 iterations += again.iterations;
                 problem.accurate = true;

@@ -15,6 +15,7 @@ mod design;
 mod error;
 mod refine;
 pub mod robust;
+pub mod screening;
 mod study;
 pub mod tuning;
 

@@ -168,12 +168,14 @@ impl CostFunction for Problem<'_> {
 }
 
 /// Nelder–Mead from `x`, with initial steps of `scale` × (0.01 in ln ω_a, 0.1 in ln ζ_a and in
-/// the mass weights), at most `iters` iterations per dimension.
+/// the mass weights), at most `iters` iterations per dimension, stopping when the simplex's costs
+/// have a standard deviation below `tolerance` (relative to the start's objective).
 pub(crate) fn run(
     problem: Problem<'_>,
     x: Vec<f64>,
     scale: f64,
     iters: u64,
+    tolerance: f64,
 ) -> Result<(Refined, Problem<'_>), PlacementError> {
     let dim = x.len();
     let n = problem.start.len();
@@ -186,7 +188,7 @@ pub(crate) fn run(
         simplex.push(v);
     }
     let solver = NelderMead::new(simplex)
-        .with_sd_tolerance(1e-9)
+        .with_sd_tolerance(tolerance)
         .map_err(|e| PlacementError::Design(format!("refinement setup: {e}")))?;
     let result = Executor::new(problem, solver)
         .configure(|s| s.max_iters(iters * dim as u64))

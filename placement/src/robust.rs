@@ -240,28 +240,44 @@ impl<'a> Evaluator<'a> {
             r.displacement.iter().map(|x| x.norm()).fold(0.0, f64::max) / (f0 * s * s)
         };
         let g = &self.grid;
+        // Each window's two highest local maxima; each is refined once for all windows holding it.
+        let mut per_window = Vec::with_capacity(self.windows.len());
+        let mut refine: Vec<usize> = Vec::new();
+        for &[lo, hi] in &self.windows {
+            let idx: Vec<usize> = (0..g.len()).filter(|&i| inside(i, lo, hi)).collect();
+            let top = idx.iter().map(|&i| vals[i]).fold(0.0, f64::max);
+            let mut maxima: Vec<usize> = idx
+                .into_iter()
+                .filter(|&i| i > 0 && i + 1 < g.len() && vals[i] >= vals[i - 1] && vals[i] >= vals[i + 1])
+                .collect();
+            maxima.sort_by(|&a, &b| vals[b].total_cmp(&vals[a]).then(a.cmp(&b)));
+            maxima.truncate(2);
+            refine.extend(maxima.iter().copied());
+            per_window.push((top, maxima));
+        }
+        refine.sort_unstable();
+        refine.dedup();
+        let refined: Vec<(usize, f64, f64)> = refine
+            .iter()
+            .map(|&i| {
+                let (f, v) = if accurate {
+                    golden_max(g[i - 1], g[i + 1], 1e-8, exact)
+                } else {
+                    resonance_peak([g[i - 1], g[i], g[i + 1]], [vals[i - 1], vals[i], vals[i + 1]])
+                };
+                (i, s * f, v)
+            })
+            .collect();
         let window_peaks = self
             .windows
             .iter()
-            .map(|&[lo, hi]| {
-                let idx: Vec<usize> = (0..g.len()).filter(|&i| inside(i, lo, hi)).collect();
-                let mut best = idx.iter().map(|&i| vals[i]).fold(0.0, f64::max);
-                let mut maxima: Vec<usize> = idx
-                    .into_iter()
-                    .filter(|&i| i > 0 && i + 1 < g.len() && vals[i] >= vals[i - 1] && vals[i] >= vals[i + 1])
-                    .collect();
-                maxima.sort_by(|&a, &b| vals[b].total_cmp(&vals[a]).then(a.cmp(&b)));
-                for &i in maxima.iter().take(2) {
-                    let (f, v) = if accurate {
-                        golden_max(g[i - 1], g[i + 1], 1e-10, exact)
-                    } else {
-                        resonance_peak([g[i - 1], g[i], g[i + 1]], [vals[i - 1], vals[i], vals[i + 1]])
-                    };
-                    if s * f >= lo && s * f <= hi {
-                        best = best.max(v);
-                    }
-                }
-                best
+            .zip(per_window)
+            .map(|(&[lo, hi], (top, maxima))| {
+                refined
+                    .iter()
+                    .filter(|(i, f, _)| maxima.contains(i) && *f >= lo && *f <= hi)
+                    .map(|&(_, _, v)| v)
+                    .fold(top, f64::max)
             })
             .collect();
         ScenarioValues { window_peaks, max_stroke, rms }
