@@ -31,7 +31,11 @@ use serde_json::json;
 type Res<T> = Result<T, Box<dyn Error>>;
 
 fn reps() -> usize {
-    std::env::var("ANTINODE_BENCH_REPS").ok().and_then(|s| s.trim().parse::<usize>().ok()).filter(|&n| n > 0).unwrap_or(3)
+    std::env::var("ANTINODE_BENCH_REPS")
+        .ok()
+        .and_then(|s| s.trim().parse::<usize>().ok())
+        .filter(|&n| n > 0)
+        .unwrap_or(3)
 }
 
 /// Median and minimum of `n` timings of `f`, and its last result.
@@ -93,21 +97,39 @@ fn screening(n: usize) -> Res<()> {
     let s = shaft(10_000, 1, false, 0.0005, 0.9995)?;
     let (sys, sol) = solved(&s, ModeRequest::Lowest(20))?;
     let nodes = s.study.as_ref().and_then(|st| st.design.as_ref()).map(|d| d.candidates.clone()).ok_or("design")?;
-    println!("## a. Screening (shaft of 10,000 elements, {} modes, {} candidate nodes in z)\n", sol.n_modes(), nodes.len());
-    println!("| candidates | modes | build coordinates [ms] (median / min) | screen [ms] (median / min) | total [ms] |");
+    println!(
+        "## a. Screening (shaft of 10,000 elements, {} modes, {} candidate nodes in z)\n",
+        sol.n_modes(),
+        nodes.len()
+    );
+    println!(
+        "| candidates | modes | build coordinates [ms] (median / min) | screen [ms] (median / min) | total [ms] |"
+    );
     println!("|---|---|---|---|---|");
     for cands in [1_000, nodes.len()] {
         for modes in [5, 20] {
             let step = nodes.len() / cands;
-            let coords: Vec<Coordinate> =
-                nodes.iter().step_by(step.max(1)).take(cands).map(|&node| Coordinate { node, direction: [0.0, 0.0, 1.0] }).collect();
+            let coords: Vec<Coordinate> = nodes
+                .iter()
+                .step_by(step.max(1))
+                .take(cands)
+                .map(|&node| Coordinate { node, direction: [0.0, 0.0, 1.0] })
+                .collect();
             let (bm, bmin, model) = repeat(n, || Ok(ModalModel::build(&sys, &sol, &coords, 0.01, false)?))?;
             let idx: Vec<usize> = (0..coords.len()).collect();
             let targets: Vec<usize> = (0..modes).collect();
             let others: Vec<usize> = (modes..sol.n_modes()).collect();
             let (sm_, smin, rows) = repeat(n, || Ok(screen(&model, &idx, &targets, &others)))?;
             assert_eq!(rows.len(), coords.len());
-            println!("| {} | {modes} | {} / {} | {} / {} | {} |", coords.len(), ms(bm), ms(bmin), ms(sm_), ms(smin), ms(bm + sm_));
+            println!(
+                "| {} | {modes} | {} / {} | {} / {} | {} |",
+                coords.len(),
+                ms(bm),
+                ms(bmin),
+                ms(sm_),
+                ms(smin),
+                ms(bm + sm_)
+            );
         }
     }
     println!();

@@ -242,7 +242,8 @@ fn stroke_limit_is_met_or_reported_unmet() {
     // the best achievable stroke, above the limit — never a silent best effort.
     let (_, _, free) = run(&sdof(0.05, 0.01, ""));
     let s0 = free.constraints.worst_stroke_m;
-    assert_rel(s0, free.absorbers[0].max_stroke_m, 1e-4, "nominal stroke without scatter (two grids)");
+    // The constraint uses refined stroke maxima, the per-absorber figure the study grid's maximum.
+    assert_rel(s0, free.absorbers[0].max_stroke_m, 1e-3, "nominal stroke without scatter (refined vs grid)");
     let limit = 0.8 * s0;
     let (_, _, held) = run(&sdof(0.05, 0.01, &format!(r#", "stroke_limit": {limit}"#)));
     assert!(held.constraints.constraints_met, "{:?}", held.constraints);

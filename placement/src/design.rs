@@ -322,7 +322,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     problem.scale = problem.objective_value(&start_values);
     let (coarse, mut problem) = run(problem, x0, 1.0, 80, 1e-6)?;
     problem.accurate = true;
-    let (fine, mut problem) = run(problem, coarse.param.clone(), 0.2, 20, 1e-9)?;
+    let (fine, mut problem) = run(problem, coarse.param.clone(), 0.2, 12, 1e-9)?;
     let mut iterations = coarse.iterations + fine.iterations;
     let mut chosen = fine;
     let mut values = problem.evaluate(&chosen.links);
