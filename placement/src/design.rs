@@ -359,6 +359,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
             }
         }
     }
+    problem.accurate = true;
     let objective_ratio = problem.objective_value(&values) / problem.objective_value(&problem.evaluate(&start));
     let refinement = RefinementInfo { iterations, objective_ratio };
     let refined = chosen.links;
