@@ -10,7 +10,7 @@ use serde::Serialize;
 use crate::modes::mode_fields;
 use crate::output::{LocationOut, db, direction_json, print_json, table};
 use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
-use crate::plot::{Series, frf_svg};
+use crate::plot::{Series, frf_svg, xy_svg};
 use crate::respond::{curves_csv, magnitude_points};
 
 #[derive(Serialize)]
@@ -77,6 +77,9 @@ struct DesignReport {
     /// True when the stroke limit (and the mass limits) hold in every scenario.
     constraints_met: bool,
     constraints: antinode_placement::constraints::ConstraintReport,
+    /// The design repeated at each of `trade_off_masses` (absent when none were asked for).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    trade_off: Vec<antinode_placement::tradeoff::TradeOffPoint>,
     files: Vec<String>,
     caution: &'static str,
 }
@@ -97,6 +100,11 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
         .with_context(|| format!("in {}", path.display()))?;
     let d = design(&sm, &spec, &l.structure).with_context(|| format!("design for {}", path.display()))?;
+    if !spec.trade_off_masses.is_empty() {
+        progress.stage("trade-off: designing at each total mass");
+    }
+    let trade = antinode_placement::tradeoff::trade_off(&sm, &spec, &l.structure)
+        .with_context(|| format!("trade-off for {}", path.display()))?;
     progress.stage("writing files");
     let s = &l.structure;
     // The model with the new absorbers, ready for `antinode respond`.
@@ -120,6 +128,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let svg_path = outputs.path("frf.svg");
     let csv_path = outputs.path("design.csv");
     let vtu_path = outputs.path("design.vtu");
+    let trade_path = outputs.path("trade-off.svg");
     let mut all = sm.existing.clone();
     let new_links: Vec<antinode_solver::AbsorberLink> = d
         .absorbers
@@ -212,8 +221,10 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         scenarios: d.scenarios.clone(),
         constraints_met: d.constraints.constraints_met,
         constraints: d.constraints.clone(),
+        trade_off: trade.clone(),
         files: [&model_path, &result_path, &svg_path, &csv_path, &vtu_path]
-            .iter()
+            .into_iter()
+            .chain((!trade.is_empty()).then_some(&trade_path))
             .map(|p| p.display().to_string())
             .collect(),
         caution: CAUTION,
@@ -222,6 +233,21 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     outputs.write_vtu("design.vtu", &designed, &fields)?;
     outputs.write("design.csv", curves_csv(&sm, &before, Some(&after), &names[..]).as_bytes())?;
     outputs.write("frf.svg", svg.as_bytes())?;
+    if !trade.is_empty() {
+        let nominal: Vec<(f64, f64)> = trade.iter().map(|p| (p.total_mass_kg, -p.change_db)).collect();
+        let worst: Vec<(f64, f64)> = trade.iter().map(|p| (p.total_mass_kg, -p.worst_case_change_db)).collect();
+        let mut series = vec![Series { label: "nominal".into(), points: &nominal, dashed: false }];
+        if d.scenarios.len() > 1 {
+            series.push(Series { label: "worst case over the scenarios".into(), points: &worst, dashed: false });
+        }
+        let plot = xy_svg(
+            &format!("Peak reduction against total absorber mass: {}", s.title),
+            "total absorber mass [kg]",
+            "peak reduction [dB]",
+            &series,
+        )?;
+        outputs.write("trade-off.svg", plot.as_bytes())?;
+    }
     outputs.write("design.json", serde_json::to_string_pretty(&model)?.as_bytes())?;
     outputs.write("design-result.json", serde_json::to_string_pretty(&report)?.as_bytes())?;
     outputs.commit()?;

@@ -1302,7 +1302,8 @@ fn rejects_misused_generator_fields() {
 
 /// A stroke limit no design can meet: `design` writes its files with `"constraints_met": false`,
 /// the best achievable stroke above the limit, and exits non-zero with the reason on standard
-/// error (never a silent best effort). With a robust request the worst case is reported too.
+/// error (never a silent best effort). With a robust request the worst case is reported too, and
+/// the trade-off masses give one point each and `trade-off.svg`.
 #[test]
 fn design_reports_an_unmet_stroke_limit() {
     let tmp = temp();
@@ -1310,6 +1311,7 @@ fn design_reports_an_unmet_stroke_limit() {
     let mut m = base();
     m["study"]["absorber_design"]["stroke_limit"] = json!(1e-12);
     m["study"]["absorber_design"]["uncertainty"] = json!({"frequency_scatter": 0.05});
+    m["study"]["absorber_design"]["trade_off_masses"] = json!([0.02, 0.05]);
     let model = dir.join("model.json");
     std::fs::write(&model, pretty(&m)).expect("model written");
     let out = dir.join("out");
@@ -1331,4 +1333,7 @@ fn design_reports_an_unmet_stroke_limit() {
         serde_json::from_str(&std::fs::read_to_string(out.join("design-result.json")).expect("result"))
             .expect("result is JSON");
     assert_eq!(written["constraints_met"], json!(false));
+    // The trade-off curve: one point per mass, and its plot.
+    assert_eq!(j["trade_off"].as_array().map(Vec::len), Some(2));
+    assert!(out.join("trade-off.svg").is_file(), "trade-off.svg written");
 }

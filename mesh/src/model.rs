@@ -656,6 +656,10 @@ pub struct AbsorberDesign {
     /// Scatter to design against: the refinement minimises the worst case over the scenarios.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub uncertainty: Option<Uncertainty>,
+    /// Total absorber masses (kg) at which to repeat the design for the trade-off curve of
+    /// reduction against mass (`trade-off.svg`). Default: none.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub trade_off_masses: Vec<f64>,
 }
 
 /// Scatter of the structure and of the absorbers' springs. The scenarios scale every structural

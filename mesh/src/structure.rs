@@ -401,6 +401,8 @@ pub struct DesignSpec {
     pub stroke_limit: Option<f64>,
     /// Uncertainty scenarios to design against.
     pub uncertainty: UncertaintySpec,
+    /// Total absorber masses for the trade-off curve, in kg.
+    pub trade_off_masses: Vec<f64>,
 }
 
 /// Checked uncertainty: relative scatters and levels per scattered quantity.

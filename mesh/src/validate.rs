@@ -1547,7 +1547,24 @@ impl<'a> Builder<'a> {
                 UncertaintySpec { frequency_scatter, stiffness_scatter, levels }
             }
         };
+        for (i, &m) in d.trade_off_masses.iter().enumerate() {
+            let tat = format!("{at}.trade_off_masses[{i}]");
+            check_positive(&tat, "total mass", m)?;
+            if let Some([lo, hi]) = mass_limits {
+                let n = d.count as f64;
+                if m < lo * n || m > hi * n {
+                    return Err(ModelError::Invalid {
+                        at: tat,
+                        message: format!(
+                            "{m} kg cannot be shared by {} absorber(s) within mass_limits [{lo}, {hi}] kg",
+                            d.count
+                        ),
+                    });
+                }
+            }
+        }
         Ok(DesignSpec {
+            trade_off_masses: d.trade_off_masses.clone(),
             total_mass: d.total_mass,
             mass_limits,
             stroke_limit: d.stroke_limit,

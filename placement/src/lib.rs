@@ -17,6 +17,7 @@ mod refine;
 pub mod robust;
 pub mod screening;
 mod study;
+pub mod tradeoff;
 pub mod tuning;
 
 pub use design::{
