@@ -10,7 +10,7 @@ use serde::Serialize;
 use crate::modes::mode_fields;
 use crate::output::{LocationOut, db, direction_json, print_json, table};
 use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
-use crate::plot::{Series, frf_svg};
+use crate::plot::{Series, frf_svg, xy_svg};
 use crate::respond::{curves_csv, magnitude_points};
 
 #[derive(Serialize)]
@@ -63,6 +63,23 @@ struct DesignReport {
     peak_change_db: f64,
     rms_before: f64,
     rms_after: f64,
+    /// Band peaks in dB re 1 m/N (per newton of the reference force), nominal.
+    peak_before_db: f64,
+    peak_after_db: f64,
+    /// Highest band peak over the uncertainty scenarios, before and after, in m/N and dB re 1 m/N.
+    worst_case_peak_before: f64,
+    worst_case_peak_after: f64,
+    worst_case_peak_before_db: f64,
+    worst_case_peak_after_db: f64,
+    worst_case_change_db: f64,
+    /// Peaks and strokes per uncertainty scenario.
+    scenarios: Vec<antinode_placement::ScenarioResult>,
+    /// True when the stroke limit (and the mass limits) hold in every scenario.
+    constraints_met: bool,
+    constraints: antinode_placement::constraints::ConstraintReport,
+    /// The design repeated at each of `trade_off_masses` (absent when none were asked for).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    trade_off: Vec<antinode_placement::tradeoff::TradeOffPoint>,
     files: Vec<String>,
     caution: &'static str,
 }
@@ -83,6 +100,11 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
         .with_context(|| format!("in {}", path.display()))?;
     let d = design(&sm, &spec, &l.structure).with_context(|| format!("design for {}", path.display()))?;
+    if !spec.trade_off_masses.is_empty() {
+        progress.stage("trade-off: designing at each total mass");
+    }
+    let trade = antinode_placement::tradeoff::trade_off(&sm, &spec, &l.structure)
+        .with_context(|| format!("trade-off for {}", path.display()))?;
     progress.stage("writing files");
     let s = &l.structure;
     // The model with the new absorbers, ready for `antinode respond`.
@@ -108,6 +130,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let svg_path = outputs.path("frf.svg");
     let csv_path = outputs.path("design.csv");
     let vtu_path = outputs.path("design.vtu");
+    let trade_path = outputs.path("trade-off.svg");
     let mut all = sm.existing.clone();
     let new_links: Vec<antinode_solver::AbsorberLink> = d
         .absorbers
@@ -190,8 +213,20 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         peak_change_db: db(d.after.receptance, d.before.receptance),
         rms_before: d.rms_before,
         rms_after: d.rms_after,
+        peak_before_db: db(d.before.receptance, 1.0),
+        peak_after_db: db(d.after.receptance, 1.0),
+        worst_case_peak_before: d.worst_case_before,
+        worst_case_peak_after: d.worst_case_after,
+        worst_case_peak_before_db: db(d.worst_case_before, 1.0),
+        worst_case_peak_after_db: db(d.worst_case_after, 1.0),
+        worst_case_change_db: db(d.worst_case_after, d.worst_case_before),
+        scenarios: d.scenarios.clone(),
+        constraints_met: d.constraints.constraints_met,
+        constraints: d.constraints.clone(),
+        trade_off: trade.clone(),
         files: [&model_path, &result_path, &svg_path, &csv_path, &vtu_path]
-            .iter()
+            .into_iter()
+            .chain((!trade.is_empty()).then_some(&trade_path))
             .map(|p| p.display().to_string())
             .collect(),
         caution: CAUTION,
@@ -200,14 +235,36 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     outputs.write_vtu("design.vtu", &designed, &fields)?;
     outputs.write("design.csv", curves_csv(&sm, &before, Some(&after), &names[..]).as_bytes())?;
     outputs.write("frf.svg", svg.as_bytes())?;
+    if !trade.is_empty() {
+        let nominal: Vec<(f64, f64)> = trade.iter().map(|p| (p.total_mass_kg, -p.change_db)).collect();
+        let worst: Vec<(f64, f64)> = trade.iter().map(|p| (p.total_mass_kg, -p.worst_case_change_db)).collect();
+        let mut series = vec![Series { label: "nominal".into(), points: &nominal, dashed: false }];
+        if d.scenarios.len() > 1 {
+            series.push(Series { label: "worst case over the scenarios".into(), points: &worst, dashed: false });
+        }
+        let plot = xy_svg(
+            &format!("Peak reduction against total absorber mass: {}", s.title),
+            "total absorber mass [kg]",
+            "peak reduction [dB]",
+            &series,
+        )?;
+        outputs.write("trade-off.svg", plot.as_bytes())?;
+    }
     outputs.write("design.json", serde_json::to_string_pretty(&model)?.as_bytes())?;
     outputs.write("design-result.json", serde_json::to_string_pretty(&report)?.as_bytes())?;
     outputs.commit()?;
     drop(progress);
     if json {
-        return print_json(&report);
+        print_json(&report)?;
+    } else {
+        print_human(&report, spec.mass_each);
     }
-    print_human(&report, spec.mass_each);
+    if let Some(m) = &report.constraints.message {
+        bail!(
+            "{}: constraints not met: {m}. The best design found is written, marked \"constraints_met\": false",
+            path.display()
+        );
+    }
     Ok(())
 }
 
@@ -317,6 +374,58 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         r.rms_after,
         db(r.rms_after, r.rms_before)
     );
+    let rows = r
+        .absorbers
+        .iter()
+        .map(|a| {
+            let d = &a.designed;
+            let band = |v: Option<[f64; 2]>, f: fn(f64) -> String| match v {
+                Some([lo, hi]) => format!("{} .. {}", f(lo), f(hi)),
+                None => "-".into(),
+            };
+            vec![
+                a.name.clone(),
+                format!("{:.4e}", d.max_stroke_m),
+                format!("{:.4e}", d.worst_case_stroke_m),
+                format!("{:.4e}", d.max_spring_force_n),
+                format!("{:.4e}", d.static_sag_m),
+                band(d.tolerance_band, |x| format!("{:+.1} %", 100.0 * x)),
+                band(d.tolerance_band_hz, |x| format!("{x:.3}")),
+            ]
+        })
+        .collect();
+    println!("at the stated excitation (tolerance band: drift of the tuning at which the dB benefit halves):");
+    println!(
+        "{}",
+        table(
+            &[
+                "absorber",
+                "stroke [m]",
+                "worst-case stroke [m]",
+                "spring force [N]",
+                "static sag [m]",
+                "tolerance band",
+                "tuned range [Hz]"
+            ],
+            rows
+        )
+    );
+    if r.scenarios.len() > 1 {
+        println!(
+            "worst case over {} scenarios: before {:.4e} m/N, after {:.4e} m/N ({:+.2} dB)",
+            r.scenarios.len(),
+            r.worst_case_peak_before,
+            r.worst_case_peak_after,
+            r.worst_case_change_db
+        );
+    }
+    match (&r.constraints.message, r.constraints.stroke_limit_m) {
+        (Some(m), _) => println!("CONSTRAINTS NOT MET: {m}"),
+        (None, Some(l)) => {
+            println!("stroke limit {l:.4e} m met: worst-case stroke {:.4e} m", r.constraints.worst_stroke_m)
+        }
+        (None, None) => {}
+    }
     println!("wrote {}", r.files.join(", "));
     println!("{}", r.caution);
 }

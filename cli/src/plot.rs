@@ -221,3 +221,51 @@ pub fn profiles_svg(title: &str, x_label: &str, x: &[f64], series: &[(String, Ve
     }
     Ok(svg)
 }
+
+/// A plot of curves on linear axes with point markers (e.g. reduction against absorber mass), as
+/// SVG text. Each series' points are (x, y) pairs.
+pub fn xy_svg(title: &str, x_label: &str, y_label: &str, series: &[Series<'_>]) -> Result<String> {
+    let all: Vec<(f64, f64)> =
+        series.iter().flat_map(|s| s.points.iter().copied()).filter(|p| p.1.is_finite()).collect();
+    if all.is_empty() {
+        return Err(anyhow!("nothing to plot"));
+    }
+    let x1 = all.iter().map(|p| p.0).fold(0.0, f64::max) * 1.05;
+    let y0 = all.iter().map(|p| p.1).fold(0.0, f64::min);
+    let y1 = all.iter().map(|p| p.1).fold(0.0, f64::max) * 1.1 + 1e-9;
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (960, 560)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| anyhow!("{e}"))?;
+        let mut chart = ChartBuilder::on(&root)
+            .caption(title, ("sans-serif", 18))
+            .margin(14)
+            .x_label_area_size(44)
+            .y_label_area_size(70)
+            .build_cartesian_2d(0.0..x1, y0..y1)
+            .map_err(|e| anyhow!("{e}"))?;
+        chart.configure_mesh().x_desc(x_label).y_desc(y_label).draw().map_err(|e| anyhow!("{e}"))?;
+        for (i, s) in series.iter().enumerate() {
+            let colour = COLOURS[i % COLOURS.len()];
+            let style = ShapeStyle::from(&colour).stroke_width(2);
+            let pts: Vec<(f64, f64)> = s.points.to_vec();
+            chart
+                .draw_series(LineSeries::new(pts.clone(), style))
+                .map_err(|e| anyhow!("{e}"))?
+                .label(s.label.clone())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], style));
+            chart
+                .draw_series(pts.into_iter().map(|p| Circle::new(p, 4, style.filled())))
+                .map_err(|e| anyhow!("{e}"))?;
+        }
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::LowerRight)
+            .background_style(WHITE.mix(0.9))
+            .border_style(BLACK)
+            .draw()
+            .map_err(|e| anyhow!("{e}"))?;
+        root.present().map_err(|e| anyhow!("{e}"))?;
+    }
+    Ok(svg)
+}

@@ -1742,3 +1742,41 @@ fn outputs_replace_foreign_files_only_with_force() {
     // Now the folder is antinode's own: a second run replaces its files without --force.
     antinode(dir, args).assert_success("modes again into its own folder");
 }
+
+/// A stroke limit no design can meet: `design` writes its files with `"constraints_met": false`,
+/// the best achievable stroke above the limit, and exits non-zero with the reason on standard
+/// error (never a silent best effort). With a robust request the worst case is reported too, and
+/// the trade-off masses give one point each and `trade-off.svg`.
+#[test]
+fn design_reports_an_unmet_stroke_limit() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let mut m = base();
+    m["study"]["absorber_design"]["stroke_limit"] = json!(1e-12);
+    m["study"]["absorber_design"]["uncertainty"] = json!({"frequency_scatter": 0.05});
+    m["study"]["absorber_design"]["trade_off_masses"] = json!([0.02, 0.05]);
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let out = dir.join("out");
+    let r =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    assert_eq!(r.code, Some(1), "non-zero exit:\n{}\n{}", r.stdout, r.stderr);
+    assert!(r.stderr.contains("constraints not met") && r.stderr.contains("stroke limit"), "{}", r.stderr);
+    let j = r.json();
+    assert_eq!(j["constraints_met"], json!(false));
+    let best = num(&j["constraints"]["best_achievable_stroke_m"], "best achievable stroke");
+    assert!(best > 1e-12, "{best}");
+    assert_eq!(j["scenarios"].as_array().map(Vec::len), Some(3), "three frequency levels");
+    assert!(num(&j["worst_case_peak_after"], "worst case") >= num(&j["peak_after"], "nominal") * (1.0 - 1e-9));
+    let a = &j["absorbers"][0];
+    for f in ["max_stroke_m", "max_spring_force_n", "worst_case_stroke_m", "static_sag_m"] {
+        assert!(num(&a[f], f) > 0.0, "{f}");
+    }
+    let written: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("design-result.json")).expect("result"))
+            .expect("result is JSON");
+    assert_eq!(written["constraints_met"], json!(false));
+    // The trade-off curve: one point per mass, and its plot.
+    assert_eq!(j["trade_off"].as_array().map(Vec::len), Some(2));
+    assert!(out.join("trade-off.svg").is_file(), "trade-off.svg written");
+}

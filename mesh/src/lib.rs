@@ -63,7 +63,7 @@ pub use model::{
     MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId, NodesRegion, Objective,
     Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region,
     ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Study, Support,
-    Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment,
+    Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -73,7 +73,7 @@ pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, ElementParts, LineNodes, LinkSpec,
     MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement,
-    Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
+    Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
 pub use vtk::{

@@ -649,6 +649,38 @@ pub struct AbsorberDesign {
     /// largest distance between candidates.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub min_spacing: Option<f64>,
+    /// Smallest and largest moving mass of one absorber `[min, max]`, in kg. With `total_mass` the
+    /// split of the budget among the absorbers is refined within these limits.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mass_limits: Option<[f64; 2]>,
+    /// Largest allowed stroke (peak displacement of an absorber's mass relative to its attachment)
+    /// at the stated excitation over the band, in m, in every uncertainty scenario.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub stroke_limit: Option<f64>,
+    /// Scatter to design against: the refinement minimises the worst case over the scenarios.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub uncertainty: Option<Uncertainty>,
+    /// Total absorber masses (kg) at which to repeat the design for the trade-off curve of
+    /// reduction against mass (`trade-off.svg`). Default: none.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub trade_off_masses: Vec<f64>,
+}
+
+/// Scatter of the structure and of the absorbers' springs. The scenarios scale every structural
+/// natural frequency by 1 + a (a on `scenarios` even steps over [−x, +x]) and every designed
+/// absorber's stiffness by 1 + b (b likewise over [−y, +y]): `scenarios`² cases.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Uncertainty {
+    /// Relative scatter x of the structure's natural frequencies (0.05 = ±5 %). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub frequency_scatter: Option<f64>,
+    /// Relative scatter y of the absorbers' spring stiffness (0.1 = ±10 %). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub stiffness_scatter: Option<f64>,
+    /// Levels per scattered quantity, from 2 to 9 (3: −, nominal, +). Default 3.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scenarios: Option<usize>,
 }
 
 fn default_targets() -> Targets {

@@ -410,6 +410,32 @@ pub struct DesignSpec {
     pub objective: Objective,
     /// Smallest spacing between absorbers aimed at one mode, in m.
     pub min_spacing: f64,
+    /// Total mass budget, in kg, when given as `total_mass` (the split may then be refined).
+    pub total_mass: Option<f64>,
+    /// Per-absorber mass limits `[min, max]`, in kg.
+    pub mass_limits: Option<[f64; 2]>,
+    /// Stroke limit at the stated excitation, in m.
+    pub stroke_limit: Option<f64>,
+    /// Uncertainty scenarios to design against.
+    pub uncertainty: UncertaintySpec,
+    /// Total absorber masses for the trade-off curve, in kg.
+    pub trade_off_masses: Vec<f64>,
+}
+
+/// Checked uncertainty: relative scatters and levels per scattered quantity.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct UncertaintySpec {
+    /// Relative scatter of the structure's natural frequencies (0 = none).
+    pub frequency_scatter: f64,
+    /// Relative scatter of the designed absorbers' stiffness (0 = none).
+    pub stiffness_scatter: f64,
+    /// Levels per scattered quantity (a quantity without scatter has one level).
+    pub levels: usize,
+}
+
+impl UncertaintySpec {
+    /// No scatter: the nominal case only.
+    pub const NONE: Self = Self { frequency_scatter: 0.0, stiffness_scatter: 0.0, levels: 1 };
 }
 
 /// A checked study.

@@ -17,7 +17,7 @@ use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
     MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode,
-    StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
+    StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -1752,7 +1752,105 @@ impl<'a> Builder<'a> {
             }
             None => 0.1 * bounding_diagonal(candidates.iter().map(|&i| self.nodes[i].xyz)),
         };
+        let mass_limits = match d.mass_limits {
+            Some([lo, hi]) => {
+                let lat = format!("{at}.mass_limits");
+                check_positive(&lat, "min", lo)?;
+                check_positive(&lat, "max", hi)?;
+                if hi < lo {
+                    return Err(ModelError::Invalid {
+                        at: lat,
+                        message: format!("the limits [{lo}, {hi}] kg are contradictory: min must not exceed max"),
+                    });
+                }
+                if let Some(t) = d.total_mass {
+                    let n = d.count as f64;
+                    if t < lo * n {
+                        return Err(ModelError::Invalid {
+                            at: format!("{at}.total_mass"),
+                            message: format!(
+                                "the mass budget {t} kg is below what {} absorber(s) of at least {lo} kg need                                  ({} kg, mass_limits); raise total_mass or lower the count or the minimum",
+                                d.count,
+                                lo * n
+                            ),
+                        });
+                    }
+                    if t > hi * n {
+                        return Err(ModelError::Invalid {
+                            at: format!("{at}.total_mass"),
+                            message: format!(
+                                "the mass budget {t} kg cannot be used by {} absorber(s) of at most {hi} kg                                  ({} kg, mass_limits): the constraints contradict each other",
+                                d.count,
+                                hi * n
+                            ),
+                        });
+                    }
+                } else if mass_each < lo || mass_each > hi {
+                    return Err(ModelError::Invalid {
+                        at: format!("{at}.mass_each"),
+                        message: format!("mass_each = {mass_each} kg is outside mass_limits [{lo}, {hi}] kg"),
+                    });
+                }
+                Some([lo, hi])
+            }
+            None => None,
+        };
+        if let Some(l) = d.stroke_limit {
+            check_positive(at, "stroke_limit", l)?;
+        }
+        let uncertainty = match &d.uncertainty {
+            None => UncertaintySpec::NONE,
+            Some(u) => {
+                let uat = format!("{at}.uncertainty");
+                let scatter = |field: &'static str, v: Option<f64>| -> Result<f64, ModelError> {
+                    let v = v.unwrap_or(0.0);
+                    if v.is_finite() && (0.0..0.5).contains(&v) {
+                        Ok(v)
+                    } else {
+                        Err(ModelError::OutOfRange {
+                            at: uat.clone(),
+                            field,
+                            value: v,
+                            allowed: "a fraction in [0, 0.5), e.g. 0.05 for ±5 %".into(),
+                        })
+                    }
+                };
+                let frequency_scatter = scatter("frequency_scatter", u.frequency_scatter)?;
+                let stiffness_scatter = scatter("stiffness_scatter", u.stiffness_scatter)?;
+                let levels = u.scenarios.unwrap_or(3);
+                if !(2..=9).contains(&levels) {
+                    return Err(ModelError::OutOfRange {
+                        at: uat,
+                        field: "scenarios",
+                        value: levels as f64,
+                        allowed: "2 to 9 levels per scattered quantity".into(),
+                    });
+                }
+                UncertaintySpec { frequency_scatter, stiffness_scatter, levels }
+            }
+        };
+        for (i, &m) in d.trade_off_masses.iter().enumerate() {
+            let tat = format!("{at}.trade_off_masses[{i}]");
+            check_positive(&tat, "total mass", m)?;
+            if let Some([lo, hi]) = mass_limits {
+                let n = d.count as f64;
+                if m < lo * n || m > hi * n {
+                    return Err(ModelError::Invalid {
+                        at: tat,
+                        message: format!(
+                            "{m} kg cannot be shared by {} absorber(s) within mass_limits [{lo}, {hi}] kg",
+                            d.count
+                        ),
+                    });
+                }
+            }
+        }
         Ok(DesignSpec {
+            trade_off_masses: d.trade_off_masses.clone(),
+            total_mass: d.total_mass,
+            mass_limits,
+            stroke_limit: d.stroke_limit,
+            uncertainty,
             targets,
             count: d.count,
             mass_each,

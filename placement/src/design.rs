@@ -13,22 +13,22 @@
 //!    mass ratio μ = m_a φ² on the target mode, and scored by the objective over the target's window
 //!    (between the geometric means with the neighbouring modes, at most ±50 %, within the band)
 //!    with the earlier absorbers in place. The best is kept; the ranking is reported.
-//! 4. All stiffnesses and dampings are refined together by Nelder–Mead in log coordinates
-//!    (stiffness within ×/÷ 2 and damping within ×/÷ 5 of the start) on the whole-band objective:
-//!    for `peak` a soft maximum (8-norm) of the band peak and every target window's peak, so each
-//!    absorber stays well tuned even where another mode's peak dominates; for `rms` the band RMS.
-
+//! 4. All tunings (and the split of a total mass budget, within the per-absorber limits) are refined
+//!    together on the coupled model over every uncertainty scenario, under the stroke limit
+//!    ([`crate::refine`]); the objective is the worst scenario's.
+//! 5. Each absorber's static sag, stroke and spring force at the stated excitation, worst-case
+//!    stroke, and tolerance band of its tuning are reported; so are the peaks before and after,
+//!    nominal and worst case, and whether the constraints are met.
 use antinode_mesh::{AbsorberDamping, DesignSpec, Objective, Structure, TargetSpec, distance};
 use antinode_solver::AbsorberLink;
-use argmin::core::{CostFunction, Error as ArgminError, Executor, State};
-use argmin::solver::neldermead::NelderMead;
 use rayon::prelude::*;
 use serde::Serialize;
 
+use crate::constraints::{ConstraintReport, static_sag, tolerance_band};
 use crate::error::PlacementError;
-use antinode_solver::resonance_peak;
-
-use crate::study::{Candidate, GridTable, Peak, StudyModel};
+use crate::refine::{Goal, Problem, run};
+use crate::robust::{Evaluator, Scenario, scenarios};
+use crate::study::{Candidate, Peak, StudyModel};
 use crate::tuning::{Tuning, den_hartog_brock, warburton_random_force};
 
 /// Auto targets: modes whose modal peak is at least this share of the largest (2 %).
@@ -115,6 +115,19 @@ pub struct DesignedAbsorber {
     pub max_stroke_m_per_n: f64,
     /// Largest spring-and-damper force over the band per newton of excitation (N/N).
     pub max_spring_force_n_per_n: f64,
+    /// Largest stroke over the band at the stated excitation (nominal case), in m.
+    pub max_stroke_m: f64,
+    /// Largest spring-and-damper force over the band at the stated excitation (nominal), in N.
+    pub max_spring_force_n: f64,
+    /// Largest stroke over the band and every uncertainty scenario at the stated excitation, in m.
+    pub worst_case_stroke_m: f64,
+    /// Static sag of the mass on its spring under gravity, m g / k, in m.
+    pub static_sag_m: f64,
+    /// Relative drift of the tuned frequency `[below, above]` at which the reduction (dB) of its
+    /// target window's peak halves (capped at ±0.5); absent when the absorber's benefit is < 0.1 dB.
+    pub tolerance_band: Option<[f64; 2]>,
+    /// The same band as tuned frequencies, in Hz.
+    pub tolerance_band_hz: Option<[f64; 2]>,
 }
 
 /// The outcome of a design.
@@ -141,6 +154,28 @@ pub struct Design {
     /// Refinement: Nelder–Mead iterations, and the objective after relative to the closed-form
     /// start (below 1 when refinement improved on the rules).
     pub refinement: RefinementInfo,
+    /// Peaks in each uncertainty scenario (the nominal case alone without uncertainty).
+    pub scenarios: Vec<ScenarioResult>,
+    /// Highest band peak before over the scenarios, in m/N.
+    pub worst_case_before: f64,
+    /// Highest band peak after over the scenarios, in m/N.
+    pub worst_case_after: f64,
+    /// Constraints and whether they are met.
+    pub constraints: ConstraintReport,
+}
+
+/// Band peaks of one uncertainty scenario.
+#[derive(Debug, Clone, Serialize)]
+pub struct ScenarioResult {
+    /// The scenario.
+    #[serde(flatten)]
+    pub scenario: Scenario,
+    /// Highest band peak before the design, in m/N.
+    pub peak_before: f64,
+    /// Highest band peak with the designed absorbers, in m/N.
+    pub peak_after: f64,
+    /// Largest stroke over the designed absorbers at the stated excitation, in m.
+    pub max_stroke_m: f64,
 }
 
 /// What the joint refinement did.
@@ -261,7 +296,73 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     }
     let n_existing = sm.existing.len();
     let start: Vec<AbsorberLink> = links[n_existing..].to_vec();
-    let (refined, refinement) = refine(sm, &targets, objective, &links[..n_existing], &start)?;
+    let fixed = sm.existing.clone();
+    let cases = scenarios(&spec.uncertainty);
+    let mut windows = vec![band];
+    windows.extend(targets.iter().map(|t| t.window_hz));
+    let coords: Vec<usize> = links.iter().map(|l| l.coord).collect();
+    let f0 = sm.reference_force;
+    let mass_split = match (spec.total_mass, spec.mass_limits) {
+        (Some(t), Some(l)) if spec.count > 1 && l[1] > l[0] => Some((t, l)),
+        _ => None,
+    };
+    let mut problem = Problem {
+        ev: Evaluator::new(sm, &coords, n_existing, cases.clone(), windows),
+        fixed: fixed.clone(),
+        start: start.clone(),
+        mass_split,
+        stroke_limit: spec.stroke_limit.map(|l| l / f0),
+        objective,
+        goal: Goal::Response,
+        accurate: false,
+        scale: 1.0,
+    };
+    let x0 = problem.start_point();
+    let start_values = problem.evaluate(&start);
+    problem.scale = problem.objective_value(&start_values);
+    let (coarse, mut problem) = run(problem, x0, 1.0, 80, 1e-6)?;
+    problem.accurate = true;
+    let (fine, mut problem) = run(problem, coarse.param.clone(), 0.2, 12, 1e-9)?;
+    let mut iterations = coarse.iterations + fine.iterations;
+    let mut chosen = fine;
+    let mut values = problem.evaluate(&chosen.links);
+    // The stroke limit: never a silent best effort.
+    let mut best_achievable = None;
+    if let Some(limit) = spec.stroke_limit {
+        if Problem::worst_stroke(&values) * f0 > limit * (1.0 + 1e-3) {
+            problem.goal = Goal::Stroke;
+            problem.accurate = false;
+            let (least, p) = run(problem, chosen.param.clone(), 1.0, 80, 1e-6)?;
+            problem = p;
+            iterations += least.iterations;
+            let least_values = problem.evaluate(&least.links);
+            let achievable = Problem::worst_stroke(&least_values) * f0;
+            if achievable <= limit {
+                // Feasible: the best response among designs that meet the limit, from there.
+                problem.goal = Goal::Response;
+                let (again, p) = run(problem, least.param.clone(), 0.5, 60, 1e-6)?;
+                problem = p;
+                iterations += again.iterations;
+                problem.accurate = true;
+                let again_values = problem.evaluate(&again.links);
+                let ok = Problem::worst_stroke(&again_values) * f0 <= limit * (1.0 + 1e-3);
+                let (c, v) = if ok {
+                    (again, again_values)
+                } else {
+                    let v = problem.evaluate(&least.links);
+                    (least, v)
+                };
+                chosen = c;
+                values = v;
+            } else {
+                best_achievable = Some(achievable);
+            }
+        }
+    }
+    problem.accurate = true;
+    let objective_ratio = problem.objective_value(&values) / problem.objective_value(&problem.evaluate(&start));
+    let refinement = RefinementInfo { iterations, objective_ratio };
+    let refined = chosen.links;
     let mut all = sm.existing.clone();
     all.extend(refined.iter().copied());
     let before = sm.peak(band[0], band[1], &sm.existing);
@@ -269,6 +370,41 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     let rms_before = sm.rms(band[0], band[1], &sm.existing);
     let rms_after = sm.rms(band[0], band[1], &all);
     let curves = sm.curves(&sm.grid_hz, &all);
+    // Before, in every scenario: the model's own absorbers only.
+    let own: Vec<usize> = sm.existing.iter().map(|l| l.coord).collect();
+    let before_cases = Evaluator::new(sm, &own, n_existing, cases.clone(), vec![band]).all(&sm.existing, true);
+    let scenario_results: Vec<ScenarioResult> = cases
+        .iter()
+        .zip(&before_cases)
+        .zip(&values)
+        .map(|((&scenario, b), a)| ScenarioResult {
+            scenario,
+            peak_before: b.window_peaks[0],
+            peak_after: a.window_peaks[0],
+            max_stroke_m: a.max_stroke.iter().copied().fold(0.0, f64::max) * f0,
+        })
+        .collect();
+    let worst_case_before = scenario_results.iter().map(|r| r.peak_before).fold(0.0, f64::max);
+    let worst_case_after = scenario_results.iter().map(|r| r.peak_after).fold(0.0, f64::max);
+    let worst_stroke_m = Problem::worst_stroke(&values) * f0;
+    let total_mass_kg: f64 = refined.iter().map(|l| l.mass).sum();
+    let message = match (spec.stroke_limit, best_achievable) {
+        (Some(limit), Some(best)) => Some(format!(
+            "the stroke limit {limit:.4e} m cannot be met: the best achievable worst-case stroke is {best:.4e} m \
+             (within the refinement's bounds on tuning, damping and mass split); the design shown reaches \
+             {worst_stroke_m:.4e} m. Raise the limit or the absorber mass, or lower the excitation"
+        )),
+        _ => None,
+    };
+    let constraints = ConstraintReport {
+        constraints_met: message.is_none(),
+        message,
+        stroke_limit_m: spec.stroke_limit,
+        worst_stroke_m,
+        best_achievable_stroke_m: best_achievable,
+        total_mass_kg,
+        mass_limits_kg: spec.mass_limits,
+    };
     let absorbers = placed
         .iter()
         .enumerate()
@@ -285,13 +421,18 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
             let wj = 2.0 * std::f64::consts::PI * t.frequency_hz;
             let s = &curves.stroke[n_existing + i];
             let f = &curves.spring_force[n_existing + i];
+            let max_stroke = s.iter().map(|z| z.norm()).fold(0.0, f64::max);
+            let max_force = f.iter().map(|z| z.norm()).fold(0.0, f64::max);
+            let before_window = sm.peak_estimate(t.window_hz[0], t.window_hz[1], &sm.existing);
+            let tol = tolerance_band(sm, &all, n_existing + i, t.window_hz, before_window);
+            let fa = wa / (2.0 * std::f64::consts::PI);
             DesignedAbsorber {
                 candidate: c,
                 target_mode: t.mode,
                 mass_kg: link.mass,
                 stiffness_n_per_m: link.stiffness,
                 damping_n_s_per_m: c_visc,
-                tuned_frequency_hz: wa / (2.0 * std::f64::consts::PI),
+                tuned_frequency_hz: fa,
                 mass_ratio: link.mass * phi2,
                 effective_mass_kg: 1.0 / phi2,
                 damping_ratio: c_visc / (2.0 * link.mass * wa),
@@ -302,8 +443,14 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
                     AbsorberDamping::Viscous(c) => c,
                     _ => 0.0,
                 },
-                max_stroke_m_per_n: s.iter().map(|z| z.norm()).fold(0.0, f64::max),
-                max_spring_force_n_per_n: f.iter().map(|z| z.norm()).fold(0.0, f64::max),
+                max_stroke_m_per_n: max_stroke,
+                max_spring_force_n_per_n: max_force,
+                max_stroke_m: max_stroke * f0,
+                max_spring_force_n: max_force * f0,
+                worst_case_stroke_m: values.iter().map(|v| v.max_stroke[i]).fold(0.0, f64::max) * f0,
+                static_sag_m: static_sag(link.mass, link.stiffness),
+                tolerance_band: tol,
+                tolerance_band_hz: tol.map(|[lo, hi]| [fa * (1.0 + lo), fa * (1.0 + hi)]),
             }
         })
         .collect();
@@ -318,6 +465,10 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         rms_before,
         rms_after,
         refinement,
+        scenarios: scenario_results,
+        worst_case_before,
+        worst_case_after,
+        constraints,
     })
 }
 
@@ -329,7 +480,7 @@ fn choose_targets(sm: &StudyModel, spec: &DesignSpec) -> Result<Vec<TargetMode>,
             for &m in list {
                 if m > n {
                     return Err(PlacementError::Design(format!(
-                        "target mode {m} is not among the {n} computed modes (up to {:.2} Hz); raise \
+                        "study.absorber_design.targets: target mode {m} is not among the {n} computed modes (up to {:.2} Hz); raise \
                          study.max_mode_frequency_hz or choose a lower mode",
                         sm.natural_hz.last().copied().unwrap_or(0.0)
                     )));
@@ -385,151 +536,4 @@ fn window(sm: &StudyModel, r: usize) -> [f64; 2] {
     let hi = if above.is_finite() { (above * f).sqrt().min(1.5 * f) } else { 1.5 * f };
     let [blo, bhi] = sm.band_hz;
     [lo.max(blo), hi.min(bhi)]
-}
-
-/// Refinement problem for argmin: parameters are (ln k, ln c) per new absorber.
-struct Refinement<'a> {
-    sm: &'a StudyModel,
-    targets: &'a [TargetMode],
-    objective: Objective,
-    fixed: &'a [AbsorberLink],
-    start: &'a [AbsorberLink],
-    /// Receptances among all attachments (fixed, then new) on the grid.
-    table: GridTable,
-    /// Objective of the start point (the cost is relative to it).
-    scale: f64,
-}
-
-impl Refinement<'_> {
-    fn links(&self, x: &[f64]) -> Vec<AbsorberLink> {
-        self.start
-            .iter()
-            .enumerate()
-            .map(|(i, l)| AbsorberLink {
-                stiffness: x[2 * i].exp(),
-                damping: AbsorberDamping::Viscous(x[2 * i + 1].exp()),
-                ..*l
-            })
-            .collect()
-    }
-
-    fn start_point(&self) -> Vec<f64> {
-        self.start
-            .iter()
-            .flat_map(|l| {
-                let c = match l.damping {
-                    AbsorberDamping::Viscous(c) => c,
-                    _ => 0.0,
-                };
-                [l.stiffness.ln(), c.max(1e-12).ln()]
-            })
-            .collect()
-    }
-
-    /// Peaks of the largest response over [lo, hi] for each window `(lo, hi)`: the grid maximum in
-    /// the window, or higher where one of its two highest local maxima, refined by a resonance fit
-    /// through its grid neighbours ([`resonance_peak`]), rises above it. Each local maximum is
-    /// refined once for all the windows that hold it.
-    fn window_peaks(&self, values: &[f64], windows: &[[f64; 2]]) -> Vec<f64> {
-        let g = &self.sm.grid_hz;
-        let mut refine: Vec<usize> = Vec::new();
-        let mut grid_max = Vec::with_capacity(windows.len());
-        for &[lo, hi] in windows {
-            let idx: Vec<usize> = (0..g.len()).filter(|&i| g[i] >= lo && g[i] <= hi).collect();
-            grid_max.push(idx.iter().map(|&i| values[i]).fold(0.0, f64::max));
-            let mut maxima: Vec<usize> = idx
-                .into_iter()
-                .filter(|&i| i > 0 && i + 1 < g.len() && values[i] >= values[i - 1] && values[i] >= values[i + 1])
-                .collect();
-            maxima.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));
-            refine.extend(maxima.into_iter().take(2));
-        }
-        refine.sort_unstable();
-        refine.dedup();
-        let refined: Vec<(f64, f64)> = refine
-            .iter()
-            .map(|&i| resonance_peak([g[i - 1], g[i], g[i + 1]], [values[i - 1], values[i], values[i + 1]]))
-            .collect();
-        windows
-            .iter()
-            .zip(grid_max)
-            .map(|(&[lo, hi], m)| {
-                refined.iter().filter(|&&(f, _)| f >= lo && f <= hi).map(|&(_, v)| v).fold(m, f64::max)
-            })
-            .collect()
-    }
-
-    /// The objective (m/N) of new absorbers `links`.
-    fn value(&self, links: &[AbsorberLink]) -> f64 {
-        let mut all = self.fixed.to_vec();
-        all.extend_from_slice(links);
-        let values: Vec<f64> =
-            (0..self.sm.grid_hz.len()).into_par_iter().map(|i| self.sm.table_response(&self.table, i, &all)).collect();
-        match self.objective {
-            Objective::Rms => {
-                let g = &self.sm.grid_hz;
-                let mut s = 0.0;
-                for i in 1..g.len() {
-                    s += 0.5 * (values[i].powi(2) + values[i - 1].powi(2)) * (g[i] - g[i - 1]);
-                }
-                (s / (g[g.len() - 1] - g[0])).sqrt()
-            }
-            Objective::Peak => {
-                let mut windows = vec![self.sm.band_hz];
-                windows.extend(self.targets.iter().map(|t| t.window_hz));
-                let peaks = self.window_peaks(&values, &windows);
-                peaks.iter().map(|p| p.powi(8)).sum::<f64>().powf(1.0 / 8.0)
-            }
-        }
-    }
-}
-
-impl CostFunction for Refinement<'_> {
-    type Param = Vec<f64>;
-    type Output = f64;
-
-    fn cost(&self, x: &Self::Param) -> Result<f64, ArgminError> {
-        let x0 = self.start_point();
-        let inside = x.iter().zip(&x0).enumerate().all(|(i, (v, v0))| {
-            let span = if i % 2 == 0 { 2f64.ln() } else { 5f64.ln() };
-            (v - v0).abs() <= span
-        });
-        // Relative to the start value, so that the simplex tolerance is relative.
-        let v = self.value(&self.links(x)) / self.scale;
-        Ok(if inside { v } else { 1e3 * v })
-    }
-}
-
-fn refine(
-    sm: &StudyModel,
-    targets: &[TargetMode],
-    objective: Objective,
-    fixed: &[AbsorberLink],
-    start: &[AbsorberLink],
-) -> Result<(Vec<AbsorberLink>, RefinementInfo), PlacementError> {
-    let coords: Vec<usize> = fixed.iter().chain(start).map(|l| l.coord).collect();
-    let mut problem = Refinement { sm, targets, objective, fixed, start, table: sm.table(&coords), scale: 1.0 };
-    let x0 = problem.start_point();
-    problem.scale = problem.value(&problem.links(&x0));
-    let v0 = 1.0;
-    let dim = x0.len();
-    let mut simplex = vec![x0.clone()];
-    for i in 0..dim {
-        let mut v = x0.clone();
-        v[i] += if i % 2 == 0 { 0.02 } else { 0.1 };
-        simplex.push(v);
-    }
-    let solver = NelderMead::new(simplex)
-        .with_sd_tolerance(1e-6)
-        .map_err(|e| PlacementError::Design(format!("refinement setup: {e}")))?;
-    let result = Executor::new(problem, solver)
-        .configure(|s| s.max_iters(80 * dim as u64))
-        .run()
-        .map_err(|e| PlacementError::Design(format!("refinement: {e}")))?;
-    let best = result.state().get_best_param().cloned().unwrap_or(x0.clone());
-    let v1 = result.state().get_best_cost();
-    let info = RefinementInfo { iterations: result.state().get_iter(), objective_ratio: v1.min(v0) };
-    let problem = result.problem.problem.ok_or_else(|| PlacementError::Design("refinement lost its problem".into()))?;
-    // Keep the rule's values if refinement did not improve (it never should make things worse).
-    Ok((problem.links(if v1 <= v0 { &best } else { &x0 }), info))
 }

@@ -10,11 +10,19 @@
 //!   direction at its attachment; effective mass m_eff = 1/φ².
 //! - Mode numbers count from 1 in ascending frequency, zero-energy modes included.
 
+pub mod constraints;
 mod design;
 mod error;
+mod refine;
+pub mod robust;
+pub mod screening;
 mod study;
+pub mod tradeoff;
 pub mod tuning;
 
-pub use design::{AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, Slot, TargetMode, design};
+pub use design::{
+    AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, RefinementInfo, ScenarioResult, Slot, TargetMode,
+    design,
+};
 pub use error::PlacementError;
 pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, link_of};
