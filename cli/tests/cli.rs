@@ -1299,3 +1299,48 @@ fn rejects_misused_generator_fields() {
         &["springs[0].to", "one spring to ground per node"],
     );
 }
+
+#[test]
+fn respond_verify_checks_against_the_direct_solve() {
+    // `respond --verify`: the modal result against the direct sparse solve, with and without the
+    // model's absorber, at the requested number of band frequencies plus natural frequencies and
+    // peaks. The base model keeps modes to twice the band top: 1 % acceptance (issue 7).
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&base())).expect("model written");
+    let out = dir.join("out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--verify".as_ref(),
+            "--verify-count".as_ref(),
+            "20".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond --verify");
+    let j = r.json();
+    let v = &j["verification"];
+    assert!(num(&v["frequencies_checked"], "frequencies_checked") >= 20.0);
+    let cases = v["cases"].as_array().expect("verification.cases[]");
+    assert_eq!(cases.len(), 2, "without and with the absorber");
+    for c in cases {
+        assert!(num(&c["max_relative_difference"], "max_relative_difference") < 0.01, "{c}");
+        assert!(num(&c["max_direct_residual"], "max_direct_residual") < 1e-8, "{c}");
+        assert!(c["points"].as_array().map(Vec::len).unwrap_or(0) >= 20);
+    }
+    assert!(j["peak_before"].is_number(), "the existing fields stay");
+    // --verify-count needs --verify, and at least 2.
+    let r = antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--verify-count".as_ref(), "5".as_ref()]);
+    assert_eq!(r.code, Some(2), "clap usage error: {}", r.stderr);
+    let r = antinode(
+        dir,
+        [OsStr::new("respond"), model.as_os_str(), "--verify".as_ref(), "--verify-count".as_ref(), "1".as_ref()],
+    );
+    assert_eq!(r.code, Some(2), "clap usage error: {}", r.stderr);
+}

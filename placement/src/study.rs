@@ -4,8 +4,8 @@
 
 use antinode_mesh::{AbsorberSpec, DirectionSpec, Structure, StudySpec};
 use antinode_solver::{
-    AbsorberLink, Complex64, Coordinate, Load, ModalModel, ModalSolution, System, absorber_forces, frequency_grid,
-    golden_max, resonance_peak,
+    AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalModel, ModalSolution,
+    StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference, resonance_peak,
 };
 use rayon::prelude::*;
 use serde::Serialize;
@@ -28,6 +28,10 @@ pub struct Candidate {
 pub struct StudyModel {
     /// Modal data at all coordinates below.
     pub model: ModalModel,
+    /// Every coordinate of the modal model (loads, responses, existing absorbers, candidates).
+    pub coords: Vec<Coordinate>,
+    /// Damping of the structure used by the modal model.
+    pub damping: StructureDamping,
     /// Forces.
     pub loads: Vec<Load>,
     /// Response coordinates, one per response point.
@@ -84,6 +88,23 @@ pub struct GridTable {
     haa: Vec<Complex64>,
     /// Receptances from attachments to response points, nf × nr × na.
     hra: Vec<Complex64>,
+}
+
+/// The modal result against the direct sparse solve at one frequency.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VerifyPoint {
+    /// Frequency, in Hz.
+    pub frequency_hz: f64,
+    /// ‖x_modal − x_direct‖ / ‖x_direct‖ over the response points.
+    pub relative_difference: f64,
+    /// Largest |x_modal − x_direct| over the response points divided by the largest response
+    /// over all checked frequencies (meaningful also at anti-resonances).
+    pub difference_to_peak: f64,
+    /// Largest absorber stroke difference over the largest stroke over all checked frequencies
+    /// (0 without absorbers).
+    pub stroke_difference: f64,
+    /// Relative residual ‖A x − b‖/‖b‖ of the direct solve.
+    pub direct_residual: f64,
 }
 
 /// A response peak.
@@ -154,13 +175,16 @@ impl StudyModel {
                 }
             }
         }
-        let model = ModalModel::build(system, modes, &coords, study.modal_damping_ratio, true)?;
+        let damping = StructureDamping::modal(study.modal_damping_ratio);
+        let model = ModalModel::build_damped(system, modes, &coords, &damping, true)?;
         let natural_hz: Vec<f64> = (0..modes.n_modes()).map(|i| modes.frequency_hz(i)).collect();
         let grid_hz = frequency_grid(study.band_hz, &natural_hz, study.modal_damping_ratio);
         let reference_force = study.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
         let grid_factors = grid_hz.iter().map(|&f| model.modal_factors(2.0 * std::f64::consts::PI * f)).collect();
         Ok(Self {
             model,
+            coords,
+            damping,
             loads,
             responses,
             response_names: study.response_points.iter().map(|r| r.name.clone()).collect(),
@@ -199,6 +223,48 @@ impl StudyModel {
             }
         }
         best
+    }
+
+    /// The modal response with `absorbers` against the direct sparse complex solve of the whole
+    /// structure with the same absorbers and damping ([`DirectSolver`]) at each of `freq_hz`.
+    ///
+    /// # Errors
+    /// Solver errors of the direct solve.
+    pub fn verify(
+        &self,
+        system: &System,
+        modes: &ModalSolution,
+        freq_hz: &[f64],
+        absorbers: &[AbsorberLink],
+    ) -> Result<Vec<VerifyPoint>, PlacementError> {
+        let direct = DirectSolver::new(system, modes, &self.damping, &self.coords, absorbers)?;
+        let rows: Vec<(f64, CoupledResponse, CoupledResponse, f64)> = freq_hz
+            .par_iter()
+            .map(|&f| {
+                let omega = 2.0 * std::f64::consts::PI * f;
+                let m = self.model.coupled_response(omega, &self.loads, &self.responses, absorbers);
+                let d = direct.solve(omega, &self.loads, &self.responses)?;
+                Ok((f, m, d.response, d.residual))
+            })
+            .collect::<Result<_, antinode_solver::SolverError>>()?;
+        let largest = |pick: &dyn Fn(&CoupledResponse) -> &Vec<Complex64>| -> f64 {
+            rows.iter().flat_map(|r| pick(&r.2).iter().map(|z| z.norm())).fold(0.0, f64::max)
+        };
+        let peak = largest(&|r| &r.displacement);
+        let stroke_peak = largest(&|r| &r.stroke);
+        let worst = |a: &[Complex64], b: &[Complex64]| -> f64 {
+            a.iter().zip(b).map(|(x, y)| (x - y).norm()).fold(0.0, f64::max)
+        };
+        Ok(rows
+            .iter()
+            .map(|(f, m, d, res)| VerifyPoint {
+                frequency_hz: *f,
+                relative_difference: relative_difference(&m.displacement, &d.displacement),
+                difference_to_peak: if peak > 0.0 { worst(&m.displacement, &d.displacement) / peak } else { 0.0 },
+                stroke_difference: if stroke_peak > 0.0 { worst(&m.stroke, &d.stroke) / stroke_peak } else { 0.0 },
+                direct_residual: *res,
+            })
+            .collect())
     }
 
     /// Curves over `freq_hz` with `absorbers` coupled.

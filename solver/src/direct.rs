@@ -3,12 +3,13 @@
 //!
 //! Unknowns: the free DOFs x of the structure, one displacement z_a per absorber (its mass moving
 //! along its direction), and one auxiliary q_r = φ_rᵀ M x per kept mode that carries viscous modal
-//! damping. At ω (rad/s):
+//! damping (formed through a chain of partial sums so that no row of the matrix is dense). At ω
+//! (rad/s):
 //!
 //! ```text
 //! [ K(1+iη) + iω(αM + βK) − ω²M + Σ_a k*_a t_a t_aᵀ    −k*_a t_a         iω c_r M φ_r ] [x  ]   [f]
 //! [ −k*_a t_aᵀ                                          k*_a − ω² m_a     0            ] [z_a] = [0]
-//! [ iω c_r φ_rᵀ M                                       0                 −iω c_r      ] [q_r]   [0]
+//! [ −iω c_r φ_rᵀ M                                      0                 iω c_r       ] [q_r]   [0]
 //! ```
 //!
 //! with t_a the attachment coordinate (direction e at the node, as free-DOF weights), k*_a the
@@ -34,6 +35,9 @@ use crate::assembly::System;
 use crate::eigen::ModalSolution;
 use crate::error::SolverError;
 use crate::response::{AbsorberLink, Coordinate, CoupledResponse, Load, StructureDamping, coordinate_taps};
+
+/// Entries per row of the partial-sum chains that carry modal damping.
+const CHAIN_BLOCK: usize = 24;
 
 /// What scales a stored coefficient at a given frequency.
 #[derive(Debug, Clone, Copy)]
@@ -120,28 +124,42 @@ impl DirectSolver {
             }
             push(n + a, n + a, 1.0, Scale::AbsorberDiagonal(a));
         }
-        // Viscous modal damping of the kept modes, bordered.
+        // Viscous modal damping of the kept modes, bordered: q_r = φ_rᵀ M x enters every structural
+        // row (a dense column, which the column ordering puts last), but the defining row is split
+        // into a chain of partial sums s_k = s_{k−1} + Σ_{i in block k} (Mφ_r)_i x_i with s_K = q_r,
+        // so that no row is dense (a dense row would make the LU's column structure AᵀA full).
         let shapes = solution.shapes();
         let mphi = system.mul_m(shapes);
         let mut modal_c = Vec::new();
+        let mut next = n + na;
         for r in 0..solution.n_modes() {
             let c = damping.modal_viscous(r, solution.eigenvalues[r], r < solution.n_zero_energy);
             if c == 0.0 {
                 continue;
             }
             let b = modal_c.len();
-            let row = n + na + b;
-            for i in 0..n {
-                let u = mphi[(i, r)];
-                if u != 0.0 {
-                    push(i, row, u, Scale::Modal(b));
-                    push(row, i, u, Scale::Modal(b));
+            modal_c.push(c);
+            let nonzero: Vec<(usize, f64)> = (0..n).map(|i| (i, mphi[(i, r)])).filter(|p| p.1 != 0.0).collect();
+            let mut previous: Option<usize> = None;
+            for block in nonzero.chunks(CHAIN_BLOCK) {
+                let sk = next;
+                next += 1;
+                push(sk, sk, 1.0, Scale::Modal(b));
+                if let Some(p) = previous {
+                    push(sk, p, -1.0, Scale::Modal(b));
+                }
+                for &(i, u) in block {
+                    push(sk, i, -u, Scale::Modal(b));
+                }
+                previous = Some(sk);
+            }
+            if let Some(q) = previous {
+                for &(i, u) in &nonzero {
+                    push(i, q, u, Scale::Modal(b));
                 }
             }
-            push(row, row, -1.0, Scale::Modal(b));
-            modal_c.push(c);
         }
-        let size = n + na + modal_c.len();
+        let size = next;
         for i in 0..size {
             push(i, i, 0.0, Scale::Mass);
         }
