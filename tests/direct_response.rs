@@ -79,9 +79,9 @@ fn beam_case() -> (antinode::mesh::Structure, Case) {
     let s = structure(&beam_model(BAR, 40, 1.0, SS_SUPPORTS, STEEL));
     let nodes = &s.lines[0].nodes;
     let coords = vec![
-        Coordinate { node: nodes[12], direction: Z },
-        Coordinate { node: nodes[20], direction: Z },
-        Coordinate { node: nodes[28], direction: Z },
+        Coordinate { node: nodes[12], direction: Z, rotational: false },
+        Coordinate { node: nodes[20], direction: Z, rotational: false },
+        Coordinate { node: nodes[28], direction: Z, rotational: false },
     ];
     let mass = 0.05 * 0.5 * 7850.0 * 0.05 * 0.01;
     let mu: f64 = 0.05;
@@ -179,9 +179,9 @@ fn shell_plate_modal_agrees_with_direct_solve() {
         s.nodes.iter().position(|n| n.id.0 == id).unwrap_or_else(|| panic!("node {id}"))
     };
     let coords = vec![
-        Coordinate { node: node(5, 4), direction: Z },
-        Coordinate { node: node(8, 6), direction: Z },
-        Coordinate { node: node(12, 3), direction: Z },
+        Coordinate { node: node(5, 4), direction: Z, rotational: false },
+        Coordinate { node: node(8, 6), direction: Z, rotational: false },
+        Coordinate { node: node(12, 3), direction: Z, rotational: false },
     ];
     let f1 = sol.frequency_hz(0);
     let mass = 0.05 * 0.25 * 7850.0 * 0.5 * 0.4 * 0.002;
@@ -224,9 +224,9 @@ fn receptance_coupling_equals_the_coupled_solve() {
     let sol = solve_modes(&sys, ModeRequest::Lowest(sys.n_dofs()), &params).unwrap_or_else(|e| panic!("{e}"));
     let nodes = &s.lines[0].nodes;
     let coords = vec![
-        Coordinate { node: nodes[2], direction: Z },
-        Coordinate { node: nodes[4], direction: Z },
-        Coordinate { node: nodes[6], direction: [0.0, 0.6, 0.8] },
+        Coordinate { node: nodes[2], direction: Z, rotational: false },
+        Coordinate { node: nodes[4], direction: Z, rotational: false },
+        Coordinate { node: nodes[6], direction: [0.0, 0.6, 0.8], rotational: false },
     ];
     let case = Case {
         coords,

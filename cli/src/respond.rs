@@ -1,7 +1,7 @@
 //! `antinode respond`: the study's response with and without the model's absorbers.
 
 use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use antinode_placement::{Curves, StudyModel, VerifyPoint};
 use antinode_solver::{AbsorberLink, refined_peaks};
@@ -51,6 +51,14 @@ struct VerifyCase {
 }
 
 #[derive(Serialize)]
+struct TemperatureCase {
+    temperature_c: f64,
+    /// Highest response with the model's absorbers at this temperature, m/N.
+    peak_after: f64,
+    peak_frequency_hz: f64,
+}
+
+#[derive(Serialize)]
 struct Verification {
     method: &'static str,
     frequencies_checked: usize,
@@ -75,6 +83,10 @@ struct RespondReport {
     files: Vec<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
     verification: Option<Verification>,
+    /// With elastomer absorbers: the peak with absorbers at each study temperature (the curves,
+    /// peaks and `peak_after` are at the first).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    temperature_cases: Vec<TemperatureCase>,
 }
 
 /// Check frequencies: `n` geometric steps over the band, the natural frequencies in it and the
@@ -166,8 +178,22 @@ pub fn run(o: &Options) -> Result<()> {
     let (system, zero) = assemble_checked(&l, false)?;
     let modes = study_modes(&l, &system, zero, &progress)?;
     progress.stage("response");
-    let sm = StudyModel::build(&l.structure, &system, &modes, &study, false)
+    let mut sm = StudyModel::build(&l.structure, &system, &modes, &study, false)
         .with_context(|| format!("in {}", path.display()))?;
+    let mut temperature_cases = Vec::new();
+    if sm.has_elastomers() {
+        for &t in &study.temperatures_c {
+            sm.temperature_c = Some(t);
+            let p = sm.peak(study.band_hz[0], study.band_hz[1], &sm.existing);
+            temperature_cases.push(TemperatureCase {
+                temperature_c: t,
+                peak_after: p.receptance,
+                peak_frequency_hz: p.frequency_hz,
+            });
+        }
+        sm.temperature_c = study.temperatures_c.first().copied();
+    }
+    let sm = sm;
     let before = sm.curves(&sm.grid_hz, &[]);
     let has_absorbers = !sm.existing.is_empty();
     let after = has_absorbers.then(|| sm.curves(&sm.grid_hz, &sm.existing));
@@ -236,6 +262,7 @@ pub fn run(o: &Options) -> Result<()> {
             .unwrap_or_default(),
         files: [&csv_path, &svg_path, &json_path].iter().map(|p| p.display().to_string()).collect(),
         verification,
+        temperature_cases,
     };
     outputs.write("response.csv", curves_csv(&sm, &before, after.as_ref(), &names).as_bytes())?;
     outputs.write("frf.svg", svg.as_bytes())?;
@@ -273,6 +300,21 @@ pub fn run(o: &Options) -> Result<()> {
         println!("{}", table(&["absorber", "max stroke [m/N]", "max spring force [N/N]"], arows));
     } else {
         println!("the model has no absorbers: only the bare structure is shown");
+    }
+    if !report.temperature_cases.is_empty() {
+        println!("elastomer absorbers, peak with absorbers per temperature (curves at the first):");
+        let rows = report
+            .temperature_cases
+            .iter()
+            .map(|c| {
+                vec![
+                    format!("{}", c.temperature_c),
+                    format!("{:.4}", c.peak_frequency_hz),
+                    format!("{:.4e}", c.peak_after),
+                ]
+            })
+            .collect();
+        println!("{}", table(&["temperature [°C]", "frequency [Hz]", "receptance [m/N]"], rows));
     }
     if let Some(v) = &report.verification {
         println!("direct check at {} frequencies ({}):", v.frequencies_checked, v.method);

@@ -343,17 +343,79 @@ impl PanelNodes {
     }
 }
 
-/// A harmonic point force.
+/// A harmonic point force (or moment).
 #[derive(Debug, Clone, PartialEq)]
 pub struct PointForce {
     /// Node index.
     pub node: usize,
-    /// Direction.
+    /// Direction (of the force, or the moment's axis).
     pub direction: DirectionSpec,
-    /// Amplitude, in N.
+    /// Amplitude, in N (N·m for a moment).
     pub amplitude: f64,
     /// Phase, in rad.
     pub phase_rad: f64,
+    /// A moment about `direction` instead of a force.
+    pub moment: bool,
+}
+
+/// Checked damping of the structure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DampingSpec {
+    /// Uniform viscous modal ratio of elastic modes.
+    pub modal_ratio: f64,
+    /// Per-mode ratios (mode 1 first), if given.
+    pub per_mode: Option<Vec<f64>>,
+    /// (frequency in Hz, ratio) table, if given.
+    pub table: Option<Vec<(f64, f64)>>,
+    /// Rayleigh [α in 1/s, β in s].
+    pub rayleigh: [f64; 2],
+    /// Structural loss factor.
+    pub loss_factor: f64,
+}
+
+/// A checked elastomer table: rows per temperature, columns per frequency.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ElastomerSpec {
+    /// Name.
+    pub name: String,
+    /// Column frequencies, ascending, in Hz.
+    pub frequency_hz: Vec<f64>,
+    /// Row temperatures, ascending, in °C.
+    pub temperatures_c: Vec<f64>,
+    /// Storage factor [temperature][frequency].
+    pub storage_factor: Vec<Vec<f64>>,
+    /// Loss factor [temperature][frequency].
+    pub loss_factor: Vec<Vec<f64>>,
+}
+
+impl ElastomerSpec {
+    /// (storage factor, loss factor) at `f_hz` and `t_c` (°C): bilinear interpolation, end values
+    /// held outside the frequency range (the temperature is checked to lie in the table).
+    pub fn at(&self, f_hz: f64, t_c: f64) -> (f64, f64) {
+        let (i, wt) = bracket(&self.temperatures_c, t_c);
+        let (j, wf) = bracket(&self.frequency_hz, f_hz);
+        let pick = |m: &Vec<Vec<f64>>| {
+            let row = |r: usize| {
+                let v = &m[r];
+                if j + 1 < v.len() { v[j] * (1.0 - wf) + v[j + 1] * wf } else { v[j] }
+            };
+            if i + 1 < m.len() { row(i) * (1.0 - wt) + row(i + 1) * wt } else { row(i) }
+        };
+        (pick(&self.storage_factor), pick(&self.loss_factor))
+    }
+}
+
+/// Index i and weight w with x ≈ (1 − w) v[i] + w v[i+1] in ascending `v`, clamped to the ends.
+fn bracket(v: &[f64], x: f64) -> (usize, f64) {
+    if v.len() < 2 || x <= v[0] {
+        return (0, 0.0);
+    }
+    let last = v.len() - 1;
+    if x >= v[last] {
+        return (last, 0.0);
+    }
+    let i = v.partition_point(|&p| p <= x).clamp(1, last) - 1;
+    (i, (x - v[i]) / (v[i + 1] - v[i]))
 }
 
 /// A response point.
@@ -410,6 +472,15 @@ pub struct StudySpec {
     pub max_mode_frequency_hz: f64,
     /// Absorber design request.
     pub design: Option<DesignSpec>,
+    /// Damping of the structure (`modal_damping_ratio` is its uniform part).
+    pub damping: DampingSpec,
+    /// Elastomer of each absorber of the structure (by index), if it uses one.
+    pub absorber_elastomers: Vec<Option<ElastomerSpec>>,
+    /// Temperatures of the study's cases, in °C.
+    pub temperatures_c: Vec<f64>,
+    /// The largest amplitude given in `excitation` (before any spreading over a region), in N; 1
+    /// when there is no harmonic force.
+    pub reference_force: f64,
 }
 
 impl Structure {

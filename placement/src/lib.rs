@@ -17,4 +17,4 @@ pub mod tuning;
 
 pub use design::{AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, Slot, TargetMode, design};
 pub use error::PlacementError;
-pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, VerifyPoint, link_of};
+pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, VerifyPoint, link_of, structure_damping};

@@ -2,10 +2,11 @@
 //! model and candidate places, all as coordinates of one [`ModalModel`]; response curves and
 //! peaks with any set of absorbers coupled.
 
-use antinode_mesh::{AbsorberSpec, DirectionSpec, Structure, StudySpec};
+use antinode_mesh::{AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, Structure, StudySpec};
 use antinode_solver::{
-    AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalModel, ModalSolution,
-    StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference, resonance_peak,
+    AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
+    ModalSolution, StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference,
+    resonance_peak,
 };
 use rayon::prelude::*;
 use serde::Serialize;
@@ -52,8 +53,12 @@ pub struct StudyModel {
     pub natural_hz: Vec<f64>,
     /// Number of zero-energy modes among the kept ones.
     pub n_zero_energy: usize,
-    /// Modal damping ratio.
+    /// Smallest equivalent damping ratio of the kept elastic modes (sets the grid spacing).
     pub damping_ratio: f64,
+    /// Elastomer of each of the model's absorbers (same order as `existing`), if it uses one.
+    pub elastomers: Vec<Option<ElastomerSpec>>,
+    /// Temperature at which elastomers are evaluated, in °C (one of the study's temperatures).
+    pub temperature_c: Option<f64>,
     /// Modal factors at each grid frequency (shared by every evaluation).
     grid_factors: Vec<Vec<Complex64>>,
 }
@@ -119,7 +124,18 @@ pub struct Peak {
 }
 
 fn coordinate(node: usize, d: &DirectionSpec) -> Coordinate {
-    Coordinate { node, direction: d.unit }
+    Coordinate { node, direction: d.unit, rotational: false }
+}
+
+/// The solver's damping of a checked study.
+pub fn structure_damping(study: &StudySpec) -> StructureDamping {
+    let d = &study.damping;
+    let modal = match (&d.per_mode, &d.table) {
+        (Some(list), _) => ModalDampingLaw::PerMode(list.clone()),
+        (None, Some(t)) => ModalDampingLaw::Table(t.clone()),
+        (None, None) => ModalDampingLaw::Uniform(d.modal_ratio),
+    };
+    StructureDamping { modal, rayleigh: d.rayleigh, loss_factor: d.loss_factor }
 }
 
 /// The link of an absorber of the model at coordinate `coord`.
@@ -152,7 +168,7 @@ impl StudyModel {
         let mut loads = Vec::new();
         for f in &study.excitation {
             loads.push(Load { coord: coords.len(), amplitude: Complex64::from_polar(f.amplitude, f.phase_rad) });
-            coords.push(coordinate(f.node, &f.direction));
+            coords.push(Coordinate { node: f.node, direction: f.direction.unit, rotational: f.moment });
         }
         let mut responses = Vec::new();
         for r in &study.response_points {
@@ -175,11 +191,16 @@ impl StudyModel {
                 }
             }
         }
-        let damping = StructureDamping::modal(study.modal_damping_ratio);
+        let damping = structure_damping(study);
         let model = ModalModel::build_damped(system, modes, &coords, &damping, true)?;
         let natural_hz: Vec<f64> = (0..modes.n_modes()).map(|i| modes.frequency_hz(i)).collect();
-        let grid_hz = frequency_grid(study.band_hz, &natural_hz, study.modal_damping_ratio);
-        let reference_force = study.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
+        // Grid spacing from the lightest equivalent damping of the kept elastic modes.
+        let lightest = (modes.n_zero_energy..modes.n_modes())
+            .map(|r| damping.equivalent_ratio(r, modes.eigenvalues[r], false))
+            .fold(f64::INFINITY, f64::min);
+        let grid_ratio = if lightest.is_finite() && lightest > 0.0 { lightest } else { study.modal_damping_ratio };
+        let grid_hz = frequency_grid(study.band_hz, &natural_hz, grid_ratio);
+        let reference_force = study.reference_force;
         let grid_factors = grid_hz.iter().map(|&f| model.modal_factors(2.0 * std::f64::consts::PI * f)).collect();
         Ok(Self {
             model,
@@ -195,7 +216,9 @@ impl StudyModel {
             reference_force,
             natural_hz,
             n_zero_energy: modes.n_zero_energy,
-            damping_ratio: study.modal_damping_ratio,
+            damping_ratio: grid_ratio,
+            elastomers: study.absorber_elastomers.clone(),
+            temperature_c: study.temperatures_c.first().copied(),
             grid_factors,
         })
     }
@@ -213,7 +236,34 @@ impl StudyModel {
         self.response_with(&self.grid_factors[i], omega, absorbers)
     }
 
+    /// `links` with the model's elastomer absorbers (the first `existing.len()` entries) evaluated at
+    /// `f_hz` and [`StudyModel::temperature_c`]: k = k_ref · factor(f, T), k* = k(1 + iη(f, T)).
+    pub fn links_at(&self, f_hz: f64, links: &[AbsorberLink]) -> Vec<AbsorberLink> {
+        let mut out = links.to_vec();
+        let t = self.temperature_c.unwrap_or(0.0);
+        for (link, e) in out.iter_mut().zip(&self.elastomers) {
+            if let Some(e) = e {
+                let (factor, eta) = e.at(f_hz, t);
+                link.stiffness *= factor;
+                link.damping = AbsorberDamping::LossFactor(eta);
+            }
+        }
+        out
+    }
+
+    /// Whether any of the model's absorbers uses an elastomer.
+    pub fn has_elastomers(&self) -> bool {
+        self.elastomers.iter().any(Option::is_some)
+    }
+
     fn response_with(&self, factors: &[Complex64], omega: f64, absorbers: &[AbsorberLink]) -> (f64, usize) {
+        let evaluated;
+        let absorbers = if self.has_elastomers() {
+            evaluated = self.links_at(omega / (2.0 * std::f64::consts::PI), absorbers);
+            &evaluated[..]
+        } else {
+            absorbers
+        };
         let r = self.model.coupled_response_with(factors, omega, &self.loads, &self.responses, absorbers);
         let mut best = (0.0, 0);
         for (i, x) in r.displacement.iter().enumerate() {
@@ -237,13 +287,26 @@ impl StudyModel {
         freq_hz: &[f64],
         absorbers: &[AbsorberLink],
     ) -> Result<Vec<VerifyPoint>, PlacementError> {
-        let direct = DirectSolver::new(system, modes, &self.damping, &self.coords, absorbers)?;
+        // Elastomer springs change with frequency: then one solver per frequency.
+        let shared = if self.has_elastomers() {
+            None
+        } else {
+            Some(DirectSolver::new(system, modes, &self.damping, &self.coords, absorbers)?)
+        };
         let rows: Vec<(f64, CoupledResponse, CoupledResponse, f64)> = freq_hz
             .par_iter()
             .map(|&f| {
                 let omega = 2.0 * std::f64::consts::PI * f;
-                let m = self.model.coupled_response(omega, &self.loads, &self.responses, absorbers);
-                let d = direct.solve(omega, &self.loads, &self.responses)?;
+                let links = self.links_at(f, absorbers);
+                let m = self.model.coupled_response(omega, &self.loads, &self.responses, &links);
+                let d = match &shared {
+                    Some(direct) => direct.solve(omega, &self.loads, &self.responses)?,
+                    None => DirectSolver::new(system, modes, &self.damping, &self.coords, &links)?.solve(
+                        omega,
+                        &self.loads,
+                        &self.responses,
+                    )?,
+                };
                 Ok((f, m, d.response, d.residual))
             })
             .collect::<Result<_, antinode_solver::SolverError>>()?;
@@ -275,7 +338,8 @@ impl StudyModel {
         let mut spring_force = vec![Vec::with_capacity(freq_hz.len()); absorbers.len()];
         for &f in freq_hz {
             let omega = 2.0 * std::f64::consts::PI * f;
-            let r = self.model.coupled_response(omega, &self.loads, &self.responses, absorbers);
+            let at_f = self.links_at(f, absorbers);
+            let r = self.model.coupled_response(omega, &self.loads, &self.responses, &at_f);
             for (i, x) in r.displacement.iter().enumerate() {
                 response[i].push(x / f0);
             }

@@ -51,15 +51,16 @@ use crate::assembly::System;
 use crate::eigen::ModalSolution;
 use crate::error::SolverError;
 
-/// Displacement of a node along a unit direction (translations only).
+/// Displacement of a node along a unit direction, or its rotation about one.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Coordinate {
     /// Node index.
     pub node: usize,
     /// Unit direction.
     pub direction: [f64; 3],
+    /// A rotation about `direction` (rad) instead of a translation along it; its load is a moment.
+    pub rotational: bool,
 }
-
 /// Viscous modal damping ratio as a function of the mode.
 #[derive(Debug, Clone, PartialEq)]
 pub enum ModalDampingLaw {
