@@ -51,6 +51,15 @@ struct VerifyCase {
 }
 
 #[derive(Serialize)]
+struct RandomOut {
+    /// RMS displacement per response point under the random forces, without absorbers, in m.
+    rms_before_m: Vec<f64>,
+    /// The same with the model's absorbers, in m.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    rms_after_m: Option<Vec<f64>>,
+}
+
+#[derive(Serialize)]
 struct TemperatureCase {
     temperature_c: f64,
     /// Highest response with the model's absorbers at this temperature, m/N.
@@ -87,6 +96,9 @@ struct RespondReport {
     /// peaks and `peak_after` are at the first).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     temperature_cases: Vec<TemperatureCase>,
+    /// With study.random: RMS responses over the band.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    random: Option<RandomOut>,
 }
 
 /// Check frequencies: `n` geometric steps over the band, the natural frequencies in it and the
@@ -173,6 +185,13 @@ pub fn run(o: &Options) -> Result<()> {
     let Some(study) = l.structure.study.clone() else {
         bail!("{}: the model has no study block (band, excitation, response points)", path.display());
     };
+    if study.excitation.is_empty() {
+        bail!(
+            "{}: study.excitation is empty: respond needs at least one harmonic force (study.random is evaluated \
+             beside it)",
+            path.display()
+        );
+    }
     let progress = Progress::new();
     progress.stage("assembling");
     let (system, zero) = assemble_checked(&l, false)?;
@@ -263,6 +282,10 @@ pub fn run(o: &Options) -> Result<()> {
         files: [&csv_path, &svg_path, &json_path].iter().map(|p| p.display().to_string()).collect(),
         verification,
         temperature_cases,
+        random: (!sm.random.is_empty()).then(|| RandomOut {
+            rms_before_m: sm.random_rms(&[]),
+            rms_after_m: has_absorbers.then(|| sm.random_rms(&sm.existing)),
+        }),
     };
     outputs.write("response.csv", curves_csv(&sm, &before, after.as_ref(), &names).as_bytes())?;
     outputs.write("frf.svg", svg.as_bytes())?;
@@ -300,6 +323,24 @@ pub fn run(o: &Options) -> Result<()> {
         println!("{}", table(&["absorber", "max stroke [m/N]", "max spring force [N/N]"], arows));
     } else {
         println!("the model has no absorbers: only the bare structure is shown");
+    }
+    if let Some(r) = &report.random {
+        println!("random forces: RMS displacement over the band [m]:");
+        let rows = sm
+            .response_names
+            .iter()
+            .enumerate()
+            .map(|(i, n)| {
+                let mut row = vec![n.clone(), format!("{:.4e}", r.rms_before_m[i])];
+                if let Some(a) = &r.rms_after_m {
+                    row.push(format!("{:.4e}", a[i]));
+                }
+                row
+            })
+            .collect();
+        let head: &[&str] =
+            if r.rms_after_m.is_some() { &["point", "without absorbers", "with absorbers"] } else { &["point", "RMS"] };
+        println!("{}", table(head, rows));
     }
     if !report.temperature_cases.is_empty() {
         println!("elastomer absorbers, peak with absorbers per temperature (curves at the first):");

@@ -64,8 +64,8 @@ pub use quality::{
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
-    LinkSpec, MaterialProperties, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement,
-    Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
+    LinkSpec, MaterialProperties, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec, ShellElement,
+    SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, validate};
 pub use vtk::{NodalScalars, NodalVectors, build_vtu, kind as cell_kind, write_vtu};

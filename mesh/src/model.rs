@@ -550,6 +550,23 @@ pub struct Study {
     /// absorber uses an elastomer.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub temperatures_c: Vec<f64>,
+    /// Random forces given by their power spectral density (uncorrelated with each other); the
+    /// RMS response is the integral over the band.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub random: Vec<RandomForce>,
+}
+
+/// A random force with a one-sided power spectral density.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RandomForce {
+    /// Where.
+    pub at: Location,
+    /// Direction of the force.
+    pub direction: Direction,
+    /// One-sided force PSD `[[frequency_hz, N²/Hz], ...]`, strictly ascending frequencies above 0,
+    /// interpolated linearly (zero outside the table).
+    pub psd: Vec<[f64; 2]>,
 }
 
 /// Damping of the structure: per-mode or frequency-dependent modal ratios, Rayleigh damping

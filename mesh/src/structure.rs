@@ -358,6 +358,41 @@ pub struct PointForce {
     pub moment: bool,
 }
 
+/// A checked random force.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RandomSpec {
+    /// Node index.
+    pub node: usize,
+    /// Direction.
+    pub direction: DirectionSpec,
+    /// One-sided PSD (frequency in Hz, N²/Hz), ascending.
+    pub psd: Vec<(f64, f64)>,
+}
+
+impl RandomSpec {
+    /// The PSD at `f_hz` (linear interpolation, 0 outside the table), in N²/Hz.
+    pub fn psd_at(&self, f_hz: f64) -> f64 {
+        let t = &self.psd;
+        match t.len() {
+            0 => 0.0,
+            1 => {
+                if f_hz == t[0].0 {
+                    t[0].1
+                } else {
+                    0.0
+                }
+            }
+            n => {
+                if f_hz < t[0].0 || f_hz > t[n - 1].0 {
+                    return 0.0;
+                }
+                let (i, w) = bracket(&t.iter().map(|p| p.0).collect::<Vec<_>>(), f_hz);
+                if i + 1 < n { t[i].1 * (1.0 - w) + t[i + 1].1 * w } else { t[i].1 }
+            }
+        }
+    }
+}
+
 /// Checked damping of the structure.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DampingSpec {
@@ -478,6 +513,8 @@ pub struct StudySpec {
     pub absorber_elastomers: Vec<Option<ElastomerSpec>>,
     /// Temperatures of the study's cases, in °C.
     pub temperatures_c: Vec<f64>,
+    /// Random forces.
+    pub random: Vec<RandomSpec>,
     /// The largest amplitude given in `excitation` (before any spreading over a region), in N; 1
     /// when there is no harmonic force.
     pub reference_force: f64,

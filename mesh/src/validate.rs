@@ -14,8 +14,8 @@ use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
-    LinkSpec, MaterialProperties, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement,
-    Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
+    LinkSpec, MaterialProperties, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec, ShellElement,
+    SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -183,24 +183,17 @@ fn strictly_ascending(at: &str, v: &[f64], what: &str) -> Result<(), ModelError>
     Ok(())
 }
 
-/// A `[[x, y], ...]` table with x strictly ascending and positive, y finite and not negative
-/// (`positive_x`: x > 0, else x ≥ 0).
-fn ascending_table(
-    at: &str,
-    t: &[[f64; 2]],
-    x_name: &str,
-    y_name: &str,
-    positive_x: bool,
-) -> Result<Vec<(f64, f64)>, ModelError> {
+/// A `[[x, y], ...]` table with x strictly ascending and not negative, y finite and not negative.
+fn ascending_table(at: &str, t: &[[f64; 2]], x_name: &str, y_name: &str) -> Result<Vec<(f64, f64)>, ModelError> {
     let xs: Vec<f64> = t.iter().map(|p| p[0]).collect();
     strictly_ascending(at, &xs, x_name)?;
     for (i, p) in t.iter().enumerate() {
-        if (positive_x && p[0] <= 0.0) || p[0] < 0.0 {
+        if p[0] < 0.0 {
             return Err(ModelError::OutOfRange {
                 at: format!("{at}[{i}]"),
-                field: "frequency or speed",
+                field: "frequency",
                 value: p[0],
-                allowed: if positive_x { "above 0".into() } else { "0 or more".into() },
+                allowed: "0 Hz or more".into(),
             });
         }
         if !(p[1].is_finite() && p[1] >= 0.0) {
@@ -1428,6 +1421,22 @@ impl<'a> Builder<'a> {
         let reference_force = if reference_force > 0.0 { reference_force } else { 1.0 };
         let damping = self.damping_spec(s, zeta)?;
         let (absorber_elastomers, temperatures_c) = self.elastomers(s)?;
+        let mut random = Vec::new();
+        for (i, r) in s.random.iter().enumerate() {
+            let at = format!("study.random[{i}]");
+            let node = self.locate(&format!("{at}.at"), &r.at)?;
+            let dir = direction(&format!("{at}.direction"), &r.direction)?;
+            if held_along(fixed, node, &dir.unit, false) {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.at"),
+                    message:
+                        "the random force acts where every DOF along its direction is fixed; move it to a free node"
+                            .into(),
+                });
+            }
+            let psd = ascending_table(&format!("{at}.psd"), &r.psd, "frequency", "PSD")?;
+            random.push(RandomSpec { node, direction: dir, psd });
+        }
         let mut response_points = Vec::new();
         for (i, r) in s.response_points.iter().enumerate() {
             let at = format!("study.response_points[{i}]");
@@ -1450,6 +1459,7 @@ impl<'a> Builder<'a> {
             damping,
             absorber_elastomers,
             temperatures_c,
+            random,
             reference_force,
         })
     }
@@ -1491,7 +1501,7 @@ impl<'a> Builder<'a> {
         let table = match &d.modal_ratio_table {
             None => None,
             Some(t) => {
-                let t = ascending_table(&format!("{at}.modal_ratio_table"), t, "frequency", "ratio", false)?;
+                let t = ascending_table(&format!("{at}.modal_ratio_table"), t, "frequency", "ratio")?;
                 if let Some((i, p)) = t.iter().enumerate().find(|(_, p)| !ratio_ok(p.1)) {
                     return Err(ModelError::OutOfRange {
                         at: format!("{at}.modal_ratio_table[{i}]"),
@@ -1525,7 +1535,7 @@ impl<'a> Builder<'a> {
         for (name, e) in &s.elastomers {
             let at = format!("study.elastomers.{name}");
             let fx: Vec<[f64; 2]> = e.frequency_hz.iter().map(|&f| [f, 0.0]).collect();
-            ascending_table(&format!("{at}.frequency_hz"), &fx, "frequency", "value", false)?;
+            ascending_table(&format!("{at}.frequency_hz"), &fx, "frequency", "value")?;
             strictly_ascending(&format!("{at}.temperatures_c"), &e.temperatures_c, "temperature")?;
             for (field, rows) in [("storage_factor", &e.storage_factor), ("loss_factor", &e.loss_factor)] {
                 if rows.len() != e.temperatures_c.len() {

@@ -173,6 +173,13 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
                 .into(),
         ));
     }
+    if !sm.random.is_empty() || sm.loads.is_empty() {
+        return Err(PlacementError::Design(
+            "design uses the harmonic forces of study.excitation only for now; study.random is evaluated by \
+             `respond`: remove it (and give at least one harmonic force) to design"
+                .into(),
+        ));
+    }
     let targets = choose_targets(sm, spec)?;
     let band = sm.band_hz;
     let objective = spec.objective;

@@ -2,7 +2,7 @@
 //! model and candidate places, all as coordinates of one [`ModalModel`]; response curves and
 //! peaks with any set of absorbers coupled.
 
-use antinode_mesh::{AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, Structure, StudySpec};
+use antinode_mesh::{AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, RandomSpec, Structure, StudySpec};
 use antinode_solver::{
     AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
     ModalSolution, StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference,
@@ -59,6 +59,8 @@ pub struct StudyModel {
     pub elastomers: Vec<Option<ElastomerSpec>>,
     /// Temperature at which elastomers are evaluated, in °C (one of the study's temperatures).
     pub temperature_c: Option<f64>,
+    /// Random forces: coordinate index and PSD.
+    pub random: Vec<(usize, RandomSpec)>,
     /// Modal factors at each grid frequency (shared by every evaluation).
     grid_factors: Vec<Vec<Complex64>>,
 }
@@ -158,8 +160,10 @@ impl StudyModel {
         study: &StudySpec,
         with_candidates: bool,
     ) -> Result<Self, PlacementError> {
-        if study.excitation.is_empty() {
-            return Err(PlacementError::Study("the study has no excitation: add study.excitation".into()));
+        if study.excitation.is_empty() && study.random.is_empty() {
+            return Err(PlacementError::Study(
+                "the study has no excitation: add study.excitation (harmonic forces) or study.random".into(),
+            ));
         }
         if study.response_points.is_empty() {
             return Err(PlacementError::Study("the study has no response point: add study.response_points".into()));
@@ -169,6 +173,11 @@ impl StudyModel {
         for f in &study.excitation {
             loads.push(Load { coord: coords.len(), amplitude: Complex64::from_polar(f.amplitude, f.phase_rad) });
             coords.push(Coordinate { node: f.node, direction: f.direction.unit, rotational: f.moment });
+        }
+        let mut random = Vec::new();
+        for r in &study.random {
+            random.push((coords.len(), r.clone()));
+            coords.push(coordinate(r.node, &r.direction));
         }
         let mut responses = Vec::new();
         for r in &study.response_points {
@@ -218,6 +227,7 @@ impl StudyModel {
             n_zero_energy: modes.n_zero_energy,
             damping_ratio: grid_ratio,
             elastomers: study.absorber_elastomers.clone(),
+            random,
             temperature_c: study.temperatures_c.first().copied(),
             grid_factors,
         })
@@ -328,6 +338,58 @@ impl StudyModel {
                 direct_residual: *res,
             })
             .collect())
+    }
+
+    /// RMS displacement at each response point under the study's random forces (uncorrelated),
+    /// with `absorbers`, in m:
+    ///
+    /// ```text
+    /// σ_p² = Σ_l ∫_band |H_pl(f)|² G_l(f) df
+    /// ```
+    ///
+    /// with G_l the one-sided force PSD (N²/Hz) and H_pl the coupled receptance. The integral runs
+    /// over the band on the study grid (spacing ζf/2 around every mode, plus the band's lower
+    /// edge) with Simpson's rule on each grid interval, which resolves the lightly damped peaks.
+    pub fn random_rms(&self, absorbers: &[AbsorberLink]) -> Vec<f64> {
+        let [lo, hi] = self.band_hz;
+        let mut grid: Vec<f64> = self.grid_hz.iter().copied().filter(|&f| f >= lo && f <= hi).collect();
+        // The grid starts above 0 (10⁻³ of the top at the lowest): the quasi-static stretch below
+        // is smooth, one Simpson interval covers it.
+        if grid.first().is_some_and(|&g| g > lo) {
+            grid.insert(0, lo);
+        }
+        let density = |f: f64| -> Vec<f64> {
+            let omega = 2.0 * std::f64::consts::PI * f;
+            let links = self.links_at(f, absorbers);
+            let mut s = vec![0.0; self.responses.len()];
+            for (coord, spec) in &self.random {
+                let g = spec.psd_at(f);
+                if g == 0.0 {
+                    continue;
+                }
+                let unit = [Load { coord: *coord, amplitude: Complex64::new(1.0, 0.0) }];
+                let r = self.model.coupled_response(omega, &unit, &self.responses, &links);
+                for (sp, x) in s.iter_mut().zip(&r.displacement) {
+                    *sp += x.norm_sqr() * g;
+                }
+            }
+            s
+        };
+        let intervals: Vec<Vec<f64>> = grid
+            .par_windows(2)
+            .map(|w| {
+                let (a, b) = (w[0], w[1]);
+                let (fa, fm, fb) = (density(a), density(0.5 * (a + b)), density(b));
+                (0..fa.len()).map(|p| (b - a) / 6.0 * (fa[p] + 4.0 * fm[p] + fb[p])).collect()
+            })
+            .collect();
+        let mut total = vec![0.0; self.responses.len()];
+        for v in intervals {
+            for (t, x) in total.iter_mut().zip(v) {
+                *t += x;
+            }
+        }
+        total.into_iter().map(f64::sqrt).collect()
     }
 
     /// Curves over `freq_hz` with `absorbers` coupled.
