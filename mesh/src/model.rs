@@ -564,7 +564,7 @@ pub struct RandomForce {
     pub at: Location,
     /// Direction of the force.
     pub direction: Direction,
-    /// One-sided force PSD `[[frequency_hz, N²/Hz], ...]`, strictly ascending frequencies above 0,
+    /// One-sided force PSD `[[frequency_hz, N²/Hz], ...]`, strictly ascending frequencies from 0 Hz,
     /// interpolated linearly (zero outside the table).
     pub psd: Vec<[f64; 2]>,
 }

@@ -686,3 +686,35 @@ pub fn bounding_diagonal(points: impl Iterator<Item = [f64; 3]>) -> f64 {
     }
     distance(lo, hi)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn elastomer_table_is_bilinear_and_held_outside_the_frequencies() {
+        let e = ElastomerSpec {
+            name: "r".into(),
+            frequency_hz: vec![10.0, 110.0],
+            temperatures_c: vec![0.0, 40.0],
+            storage_factor: vec![vec![1.0, 2.0], vec![3.0, 4.0]],
+            loss_factor: vec![vec![0.1, 0.2], vec![0.3, 0.4]],
+        };
+        let close = |a: f64, b: f64| (a - b).abs() < 1e-12;
+        let (k, eta) = e.at(60.0, 10.0);
+        // Half-way in frequency, a quarter of the way in temperature.
+        assert!(close(k, 1.5 + 0.25 * 2.0) && close(eta, 0.15 + 0.25 * 0.2), "{k} {eta}");
+        let (k, _) = e.at(1000.0, 40.0);
+        assert!(close(k, 4.0));
+        let (k, _) = e.at(1.0, 0.0);
+        assert!(close(k, 1.0));
+    }
+
+    #[test]
+    fn random_psd_is_zero_outside_its_table() {
+        let r = RandomSpec { node: 0, direction: DirectionSpec::axis(Axis::X), psd: vec![(10.0, 1.0), (20.0, 3.0)] };
+        assert_eq!(r.psd_at(5.0), 0.0);
+        assert!((r.psd_at(15.0) - 2.0).abs() < 1e-12);
+        assert_eq!(r.psd_at(25.0), 0.0);
+    }
+}

@@ -640,6 +640,19 @@ mod tests {
     use super::*;
 
     #[test]
+    fn modal_damping_laws() {
+        let t = ModalDampingLaw::Table(vec![(10.0, 0.01), (30.0, 0.03)]);
+        assert!((t.ratio(0, 20.0) - 0.02).abs() < 1e-15 && t.ratio(0, 50.0) == 0.03 && t.ratio(0, 1.0) == 0.01);
+        let p = ModalDampingLaw::PerMode(vec![0.01, 0.02]);
+        assert!(p.ratio(1, 0.0) == 0.02 && p.ratio(7, 0.0) == 0.02);
+        // Rayleigh: c_r = α + βλ; equivalent ratio c/(2ω) + η/2.
+        let d = StructureDamping { modal: ModalDampingLaw::Uniform(0.0), rayleigh: [2.0, 1e-4], loss_factor: 0.02 };
+        let lambda: f64 = 1.0e4;
+        assert!((d.modal_coefficient(0, lambda, false) - 3.0).abs() < 1e-12);
+        assert!((d.equivalent_ratio(0, lambda, false) - (3.0 / 200.0 + 0.01)).abs() < 1e-12);
+    }
+
+    #[test]
     fn golden_section_finds_a_parabola_top() {
         let (x, y) = golden_max(0.0, 3.0, 1e-10, |x| -(x - 1.3f64).powi(2) + 2.0);
         assert!((x - 1.3).abs() < 1e-6 && (y - 2.0).abs() < 1e-12);
