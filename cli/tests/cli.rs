@@ -1391,7 +1391,8 @@ fn bad_damping_elastomer_and_excitation_are_rejected() {
     // Elastomer tables: frequencies not ascending, a negative loss factor, a row of the wrong
     // length; a temperature outside the table; an elastomer that does not exist; an absorber with
     // an elastomer and a damping too.
-    let cases: Vec<(Box<dyn Fn(&mut Value)>, Vec<&str>)> = vec![
+    type Edit = Box<dyn Fn(&mut Value)>;
+    let cases: Vec<(Edit, Vec<&str>)> = vec![
         (
             Box::new(|m| m["study"]["elastomers"]["rubber"]["frequency_hz"] = json!([10, 1000, 100])),
             vec!["study.elastomers.rubber.frequency_hz[2]", "ascending"],
