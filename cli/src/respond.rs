@@ -187,8 +187,8 @@ pub fn run(o: &Options) -> Result<()> {
     };
     if study.excitation.is_empty() {
         bail!(
-            "{}: study.excitation is empty: respond needs at least one harmonic force (study.random is evaluated \
-             beside it)",
+            "{}: the study has no excitation in study.excitation: respond needs at least one harmonic force \
+             (study.random is evaluated beside it)",
             path.display()
         );
     }
