@@ -113,7 +113,7 @@ fn screening(n: usize) -> Res<()> {
                 .iter()
                 .step_by(step.max(1))
                 .take(cands)
-                .map(|&node| Coordinate { node, direction: [0.0, 0.0, 1.0] })
+                .map(|&node| Coordinate { node, direction: [0.0, 0.0, 1.0], rotational: false })
                 .collect();
             let (bm, bmin, model) = repeat(n, || Ok(ModalModel::build(&sys, &sol, &coords, 0.01, false)?))?;
             let idx: Vec<usize> = (0..coords.len()).collect();

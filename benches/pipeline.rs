@@ -596,13 +596,13 @@ fn design_breakdown(run: &DesignRun, n: usize) -> Res<()> {
     let study = run.structure.study.as_ref().ok_or("no study")?;
     let mut coords: Vec<Coordinate> = Vec::new();
     for f in &study.excitation {
-        coords.push(Coordinate { node: f.node, direction: f.direction.unit });
+        coords.push(Coordinate { node: f.node, direction: f.direction.unit, rotational: false });
     }
     for r in &study.response_points {
-        coords.push(Coordinate { node: r.node, direction: r.direction.unit });
+        coords.push(Coordinate { node: r.node, direction: r.direction.unit, rotational: false });
     }
     for c in &sm.candidates {
-        coords.push(Coordinate { node: c.node, direction: c.direction.unit });
+        coords.push(Coordinate { node: c.node, direction: c.direction.unit, rotational: false });
     }
     let zeta = study.modal_damping_ratio;
     let (t_res, _) = repeat(n, || Ok(ModalModel::build(&run.system, &run.modes, &coords, zeta, true)?))?;

@@ -107,8 +107,14 @@ fn undamped_absorber_makes_an_exact_zero_and_cancels_the_force() {
     let sol = solve_modes(&sys, ModeRequest::Band { low_hz: 0.0, high_hz: 400.0 }, &EigenParams::default())
         .unwrap_or_else(|e| panic!("{e}"));
     let node = s.lines[0].nodes[12];
-    let model = ModalModel::build(&sys, &sol, &[Coordinate { node, direction: [0.0, 0.0, 1.0] }], 0.01, true)
-        .unwrap_or_else(|e| panic!("{e}"));
+    let model = ModalModel::build(
+        &sys,
+        &sol,
+        &[Coordinate { node, direction: [0.0, 0.0, 1.0], rotational: false }],
+        0.01,
+        true,
+    )
+    .unwrap_or_else(|e| panic!("{e}"));
     let omega_a = TWO_PI * 60.0;
     let link = AbsorberLink { coord: 0, mass: 0.2, stiffness: 0.2 * omega_a * omega_a, damping: AbsorberDamping::None };
     let force = Complex64::new(3.0, 1.0);
@@ -135,7 +141,7 @@ fn residual_flexibility_recovers_the_static_deflection() {
     let sys = system(&s);
     let sol = solve_modes(&sys, ModeRequest::Lowest(3), &EigenParams::default()).unwrap_or_else(|e| panic!("{e}"));
     let tip = s.lines[0].nodes[20];
-    let coord = [Coordinate { node: tip, direction: [0.0, 0.0, 1.0] }];
+    let coord = [Coordinate { node: tip, direction: [0.0, 0.0, 1.0], rotational: false }];
     let with = ModalModel::build(&sys, &sol, &coord, 0.01, true).unwrap_or_else(|e| panic!("{e}"));
     let without = ModalModel::build(&sys, &sol, &coord, 0.01, false).unwrap_or_else(|e| panic!("{e}"));
     let ei = 2.1e11 * 0.05 * 0.01f64.powi(3) / 12.0;
@@ -250,7 +256,7 @@ fn coupled_frequencies_match_the_lumped_estimates() {
         let model = ModalModel::build(
             &bare,
             &sol,
-            &[Coordinate { node: a.candidate.node, direction: [0.0, 0.0, 1.0] }],
+            &[Coordinate { node: a.candidate.node, direction: [0.0, 0.0, 1.0], rotational: false }],
             0.01,
             false,
         )

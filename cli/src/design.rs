@@ -121,6 +121,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
             stiffness: a.stiffness_n_per_m,
             damping: Some(a.damping_n_s_per_m),
             loss_factor: None,
+            elastomer: None,
         });
     }
     let designed = validate(&model).context("the designed model does not validate (please report this)")?;

@@ -185,6 +185,14 @@ struct RespondArgs {
     /// Output directory (default: out/<model name>).
     #[arg(long)]
     out: Option<PathBuf>,
+    /// Check the modal result against a direct sparse complex solve of the whole model (with its
+    /// absorbers) at frequencies across the band, the natural frequencies and the peaks.
+    #[arg(long)]
+    verify: bool,
+    /// With --verify: number of evenly (geometrically) spaced check frequencies across the band,
+    /// besides the natural frequencies and peaks (default 24).
+    #[arg(long, requires = "verify", value_parser = clap::value_parser!(u32).range(2..=10000))]
+    verify_count: Option<u32>,
 }
 
 #[derive(Args)]
@@ -233,7 +241,12 @@ fn main() -> ExitCode {
         }),
         Command::ExportMatrices(a) => modes::export(&a.model, a.out.as_deref(), a.with_absorbers),
         Command::ExportMesh(a) => export_mesh::run(&a.model, a.out.as_deref(), a.format),
-        Command::Respond(a) => respond::run(&a.common.model, a.common.json, a.out),
+        Command::Respond(a) => respond::run(&respond::Options {
+            model: a.common.model,
+            json: a.common.json,
+            out: a.out,
+            verify: a.verify.then(|| a.verify_count.unwrap_or(24) as usize),
+        }),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Init(a) => init::run(a.kind, a.out),
         Command::Correlate(a) => correlate::run(&correlate::Options {

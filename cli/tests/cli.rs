@@ -1780,3 +1780,178 @@ fn design_reports_an_unmet_stroke_limit() {
     assert_eq!(j["trade_off"].as_array().map(Vec::len), Some(2));
     assert!(out.join("trade-off.svg").is_file(), "trade-off.svg written");
 }
+
+#[test]
+fn respond_verify_checks_against_the_direct_solve() {
+    // `respond --verify`: the modal result against the direct sparse solve, with and without the
+    // model's absorber, at the requested number of band frequencies plus natural frequencies and
+    // peaks. The base model keeps modes to twice the band top: 1 % acceptance (issue 7).
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&base())).expect("model written");
+    let out = dir.join("out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--verify".as_ref(),
+            "--verify-count".as_ref(),
+            "20".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond --verify");
+    let j = r.json();
+    let v = &j["verification"];
+    assert!(num(&v["frequencies_checked"], "frequencies_checked") >= 20.0);
+    let cases = v["cases"].as_array().expect("verification.cases[]");
+    assert_eq!(cases.len(), 2, "without and with the absorber");
+    for c in cases {
+        assert!(num(&c["max_relative_difference"], "max_relative_difference") < 0.01, "{c}");
+        assert!(num(&c["max_direct_residual"], "max_direct_residual") < 1e-8, "{c}");
+        assert!(c["points"].as_array().map(Vec::len).unwrap_or(0) >= 20);
+    }
+    assert!(j["peak_before"].is_number(), "the existing fields stay");
+    // --verify-count needs --verify, and at least 2.
+    let r = antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--verify-count".as_ref(), "5".as_ref()]);
+    assert_eq!(r.code, Some(2), "clap usage error: {}", r.stderr);
+    let r = antinode(
+        dir,
+        [OsStr::new("respond"), model.as_os_str(), "--verify".as_ref(), "--verify-count".as_ref(), "1".as_ref()],
+    );
+    assert_eq!(r.code, Some(2), "clap usage error: {}", r.stderr);
+}
+
+/// The base model with a rubber elastomer on its absorber, evaluated at 20 °C.
+fn with_elastomer(m: &mut Value) {
+    m["absorbers"][0].as_object_mut().expect("absorber").remove("damping");
+    m["absorbers"][0]["elastomer"] = json!("rubber");
+    m["study"]["elastomers"] = json!({"rubber": {
+        "frequency_hz": [10, 100, 1000], "temperatures_c": [-20, 20, 60],
+        "storage_factor": [[1.5, 1.8, 2.2], [1.0, 1.1, 1.3], [0.8, 0.85, 0.9]],
+        "loss_factor": [[0.4, 0.45, 0.5], [0.2, 0.25, 0.3], [0.1, 0.12, 0.15]]}});
+    m["study"]["temperatures_c"] = json!([20, -10, 50]);
+}
+
+#[test]
+fn respond_runs_elastomer_temperature_cases_and_design_declines_them() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let mut m = base();
+    with_elastomer(&mut m);
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let out = dir.join("out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--verify".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond with an elastomer");
+    let j = r.json();
+    let cases = j["temperature_cases"].as_array().expect("temperature_cases[]");
+    assert_eq!(cases.len(), 3);
+    assert!((num(&cases[0]["peak_after"], "peak_after") - num(&j["peak_after"], "peak_after")).abs() < 1e-12);
+    // The modal route with the frequency-dependent spring against the direct solve (issue 7: 1 %).
+    assert!(num(&j["verification"]["max_relative_difference"], "max_relative_difference") < 0.01);
+    assert_rejected(&pretty(&m), &["design"], &["elastomer", "respond"]);
+}
+
+#[test]
+fn bad_damping_elastomer_and_excitation_are_rejected() {
+    // Elastomer tables: frequencies not ascending, a negative loss factor, a row of the wrong
+    // length; a temperature outside the table; an elastomer that does not exist; an absorber with
+    // an elastomer and a damping too.
+    type Edit = Box<dyn Fn(&mut Value)>;
+    let cases: Vec<(Edit, Vec<&str>)> = vec![
+        (
+            Box::new(|m| m["study"]["elastomers"]["rubber"]["frequency_hz"] = json!([10, 1000, 100])),
+            vec!["study.elastomers.rubber.frequency_hz[2]", "ascending"],
+        ),
+        (
+            Box::new(|m| m["study"]["elastomers"]["rubber"]["loss_factor"][1][2] = json!(-0.1)),
+            vec!["study.elastomers.rubber.loss_factor[1][2]", "-0.1", "0 or more"],
+        ),
+        (
+            Box::new(|m| m["study"]["elastomers"]["rubber"]["storage_factor"][0] = json!([1.0, 2.0])),
+            vec!["study.elastomers.rubber.storage_factor[0]", "one value per frequency"],
+        ),
+        (
+            Box::new(|m| m["study"]["temperatures_c"] = json!([20, 80])),
+            vec!["study.temperatures_c[1]", "80", "-20 to 60"],
+        ),
+        (
+            Box::new(|m| m["absorbers"][0]["elastomer"] = json!("cork")),
+            vec!["absorbers[0].elastomer", "cork", "rubber"],
+        ),
+        (Box::new(|m| m["absorbers"][0]["loss_factor"] = json!(0.1)), vec!["absorbers[0]", "elastomer"]),
+        (
+            Box::new(|m| m["study"].as_object_mut().expect("study").remove("temperatures_c").map(|_| ()).unwrap_or(())),
+            vec!["study.temperatures_c", "temperatures"],
+        ),
+    ];
+    for (edit, expect) in cases {
+        let mut m = base();
+        with_elastomer(&mut m);
+        edit(&mut m);
+        assert_rejected(&pretty(&m), &["check", "respond"], &expect);
+    }
+    // Structure damping out of range.
+    assert_edit_rejected(
+        |m| m["study"]["damping"] = json!({"modal_ratio_table": [[100, 0.02], [50, 0.01]]}),
+        &["study.damping.modal_ratio_table[1]", "ascending"],
+    );
+    assert_edit_rejected(
+        |m| m["study"]["damping"] = json!({"loss_factor": -0.02}),
+        &["study.damping", "loss_factor", "-0.02"],
+    );
+    assert_edit_rejected(
+        |m| m["study"]["damping"] = json!({"modal_ratio_per_mode": [0.01, 1.5]}),
+        &["study.damping.modal_ratio_per_mode[1]", "1.5"],
+    );
+    // A force where every DOF along it is fixed, zero or negative band frequencies.
+    assert_edit_rejected(
+        |m| m["study"]["excitation"][0]["at"] = json!({"line": "shaft", "at": 0.0}),
+        &["study.excitation[0].at", "fixed"],
+    );
+    assert_edit_rejected(|m| m["study"]["band_hz"] = json!([-5, 100]), &["study.band_hz", "[-5, 100]"]);
+    assert_edit_rejected(|m| m["study"]["band_hz"] = json!([0, 0]), &["study.band_hz", "[0, 0]"]);
+    // spread needs a region.
+    assert_edit_rejected(|m| m["study"]["excitation"][0]["spread"] = json!(true), &["study.excitation[0]", "region"]);
+}
+
+#[test]
+fn structure_damping_block_is_verified_against_the_direct_solve() {
+    // Rayleigh damping and a loss factor are exact in the direct solve (sparse C); the modal
+    // route agrees within 1 % (issue 7).
+    let tmp = temp();
+    let dir = tmp.path();
+    let mut m = base();
+    m["study"]["damping"] = json!({"rayleigh_alpha": 3.0, "rayleigh_beta": 1e-6, "loss_factor": 0.01});
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let out = dir.join("out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--verify".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond with a damping block");
+    assert!(num(&r.json()["verification"]["max_relative_difference"], "max_relative_difference") < 0.01);
+}

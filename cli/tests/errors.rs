@@ -148,6 +148,9 @@ fn cases() -> Vec<Case> {
             model: edited(|m| {
                 m["regions"] = json!({"all": {"box": [[-1, -1, -1], [2, 1, 1]]}});
                 m["supports"] = json!([{"at": {"region": "all"}, "fixed": "clamped"}]);
+                if let Some(o) = m.as_object_mut() {
+                    o.remove("study");
+                }
             }),
             command: check,
             expect: &["no free degree of freedom"],

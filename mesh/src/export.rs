@@ -278,10 +278,21 @@ pub fn export_mesh(
             members: LinkMembers { region: None, nodes: l.members.iter().map(|&m| id(m)).collect() },
         })
         .collect();
+    if let Some(study) = &s.study {
+        if let Some(i) = study.absorber_elastomers.iter().position(Option::is_some) {
+            return Err(ModelError::Invalid {
+                at: format!("absorber \"{}\"", s.absorbers[i].name),
+                message: "its spring follows an elastomer table of the study, which the exported model (without \
+                          its study block) cannot carry; export the model without the elastomer, then add it back"
+                    .into(),
+            });
+        }
+    }
     let absorbers = s
         .absorbers
         .iter()
         .map(|a| Absorber {
+            elastomer: None,
             name: Some(a.name.clone()),
             at: Location::node(id(a.node)),
             direction: a.direction.given.clone(),

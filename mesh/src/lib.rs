@@ -71,9 +71,10 @@ pub use quality::{
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, ElementParts, LineNodes, LinkSpec,
-    MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement,
-    Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, ElementParts,
+    LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec,
+    ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec,
+    bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
 pub use vtk::{

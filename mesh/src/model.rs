@@ -514,6 +514,10 @@ pub struct Absorber {
     /// Hysteretic loss factor of the spring, dimensionless (k* = k (1 + iη)).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub loss_factor: Option<f64>,
+    /// An elastomer of `study.elastomers`: the spring's storage stiffness and loss factor follow its
+    /// table (with `stiffness` as the reference); give neither `damping` nor `loss_factor` then.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub elastomer: Option<String>,
 }
 
 /// The study: what band matters, how the part is excited, where the response is read, and what
@@ -539,6 +543,77 @@ pub struct Study {
     /// Absorber design request.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub absorber_design: Option<AbsorberDesign>,
+    /// Damping of the structure beyond (or instead of) `modal_damping_ratio`. When this block is
+    /// given and `modal_damping_ratio` is not, the uniform modal ratio is 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub damping: Option<StudyDamping>,
+    /// Elastomer spring materials by name; an absorber uses one with `elastomer`.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub elastomers: BTreeMap<String, Elastomer>,
+    /// Temperatures of the study's cases, in °C (each elastomer is evaluated at each). Needed when an
+    /// absorber uses an elastomer.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub temperatures_c: Vec<f64>,
+    /// Random forces given by their power spectral density (uncorrelated with each other); the
+    /// RMS response is the integral over the band.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub random: Vec<RandomForce>,
+}
+
+/// A random force with a one-sided power spectral density.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RandomForce {
+    /// Where.
+    pub at: Location,
+    /// Direction of the force.
+    pub direction: Direction,
+    /// One-sided force PSD `[[frequency_hz, N²/Hz], ...]`, strictly ascending frequencies from 0 Hz,
+    /// interpolated linearly (zero outside the table).
+    pub psd: Vec<[f64; 2]>,
+}
+
+/// Damping of the structure: per-mode or frequency-dependent modal ratios, Rayleigh damping
+/// C = αM + βK, and a structural loss factor (K(1 + iη)). The parts add.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct StudyDamping {
+    /// Viscous modal damping ratio of each mode by number (the first entry for mode 1, rigid-body
+    /// modes included in the count; they are not damped); later modes take the last value.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub modal_ratio_per_mode: Option<Vec<f64>>,
+    /// Modal damping ratio versus frequency: `[[frequency_hz, ratio], ...]`, ascending
+    /// frequencies; each mode takes the ratio interpolated at its natural frequency (end values
+    /// outside the table).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub modal_ratio_table: Option<Vec<[f64; 2]>>,
+    /// Mass-proportional Rayleigh coefficient α, in 1/s.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rayleigh_alpha: Option<f64>,
+    /// Stiffness-proportional Rayleigh coefficient β, in s.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rayleigh_beta: Option<f64>,
+    /// Structural (hysteretic) loss factor η of the whole structure, dimensionless.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub loss_factor: Option<f64>,
+}
+
+/// An elastomer spring material: storage stiffness (as a factor on the absorber's `stiffness`) and
+/// loss factor versus frequency at several temperatures, k*(f, T) = k · factor(f, T) · (1 + iη(f, T)).
+/// Values are interpolated linearly in frequency and temperature; outside the frequency range the end
+/// values hold; a study temperature outside the table is an error.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Elastomer {
+    /// Frequencies of the table columns, strictly ascending, in Hz.
+    pub frequency_hz: Vec<f64>,
+    /// Temperatures of the table rows, strictly ascending, in °C.
+    pub temperatures_c: Vec<f64>,
+    /// Storage stiffness factor, one row per temperature, one value per frequency, dimensionless
+    /// (1 = the absorber's `stiffness`).
+    pub storage_factor: Vec<Vec<f64>>,
+    /// Loss factor, one row per temperature, one value per frequency, dimensionless.
+    pub loss_factor: Vec<Vec<f64>>,
 }
 
 /// A harmonic point force.
@@ -554,6 +629,13 @@ pub struct Force {
     /// Phase, in degrees. Default 0.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub phase_deg: Option<f64>,
+    /// `true`: a moment (N·m) about `direction` instead of a force. Default false.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moment: Option<bool>,
+    /// `true` with a region in `at`: the amplitude is shared equally by every node of the region
+    /// instead of acting at its central node. Default false.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub spread: Option<bool>,
 }
 
 /// A response point: displacement of a node along a direction.

@@ -360,17 +360,114 @@ pub struct MeshNodes {
     pub property_nodes: BTreeMap<i64, Vec<usize>>,
 }
 
-/// A harmonic point force.
+/// A harmonic point force (or moment).
 #[derive(Debug, Clone, PartialEq)]
 pub struct PointForce {
     /// Node index.
     pub node: usize,
-    /// Direction.
+    /// Direction (of the force, or the moment's axis).
     pub direction: DirectionSpec,
-    /// Amplitude, in N.
+    /// Amplitude, in N (N·m for a moment).
     pub amplitude: f64,
     /// Phase, in rad.
     pub phase_rad: f64,
+    /// A moment about `direction` instead of a force.
+    pub moment: bool,
+}
+
+/// A checked random force.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RandomSpec {
+    /// Node index.
+    pub node: usize,
+    /// Direction.
+    pub direction: DirectionSpec,
+    /// One-sided PSD (frequency in Hz, N²/Hz), ascending.
+    pub psd: Vec<(f64, f64)>,
+}
+
+impl RandomSpec {
+    /// The PSD at `f_hz` (linear interpolation, 0 outside the table), in N²/Hz.
+    pub fn psd_at(&self, f_hz: f64) -> f64 {
+        let t = &self.psd;
+        match t.len() {
+            0 => 0.0,
+            1 => {
+                if f_hz == t[0].0 {
+                    t[0].1
+                } else {
+                    0.0
+                }
+            }
+            n => {
+                if f_hz < t[0].0 || f_hz > t[n - 1].0 {
+                    return 0.0;
+                }
+                let (i, w) = bracket(&t.iter().map(|p| p.0).collect::<Vec<_>>(), f_hz);
+                if i + 1 < n { t[i].1 * (1.0 - w) + t[i + 1].1 * w } else { t[i].1 }
+            }
+        }
+    }
+}
+
+/// Checked damping of the structure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DampingSpec {
+    /// Uniform viscous modal ratio of elastic modes.
+    pub modal_ratio: f64,
+    /// Per-mode ratios (mode 1 first), if given.
+    pub per_mode: Option<Vec<f64>>,
+    /// (frequency in Hz, ratio) table, if given.
+    pub table: Option<Vec<(f64, f64)>>,
+    /// Rayleigh [α in 1/s, β in s].
+    pub rayleigh: [f64; 2],
+    /// Structural loss factor.
+    pub loss_factor: f64,
+}
+
+/// A checked elastomer table: rows per temperature, columns per frequency.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ElastomerSpec {
+    /// Name.
+    pub name: String,
+    /// Column frequencies, ascending, in Hz.
+    pub frequency_hz: Vec<f64>,
+    /// Row temperatures, ascending, in °C.
+    pub temperatures_c: Vec<f64>,
+    /// Storage factor [temperature][frequency].
+    pub storage_factor: Vec<Vec<f64>>,
+    /// Loss factor [temperature][frequency].
+    pub loss_factor: Vec<Vec<f64>>,
+}
+
+impl ElastomerSpec {
+    /// (storage factor, loss factor) at `f_hz` and `t_c` (°C): bilinear interpolation, end values
+    /// held outside the frequency range (the temperature is checked to lie in the table).
+    pub fn at(&self, f_hz: f64, t_c: f64) -> (f64, f64) {
+        let (i, wt) = bracket(&self.temperatures_c, t_c);
+        let (j, wf) = bracket(&self.frequency_hz, f_hz);
+        let pick = |m: &Vec<Vec<f64>>| {
+            let row = |r: usize| {
+                let v = &m[r];
+                if j + 1 < v.len() { v[j] * (1.0 - wf) + v[j + 1] * wf } else { v[j] }
+            };
+            if i + 1 < m.len() { row(i) * (1.0 - wt) + row(i + 1) * wt } else { row(i) }
+        };
+        (pick(&self.storage_factor), pick(&self.loss_factor))
+    }
+}
+
+/// Index i and weight w with x ≈ (1 − w) v[i] + w v[i+1] in ascending `v`, clamped to the ends.
+fn bracket(v: &[f64], x: f64) -> (usize, f64) {
+    if v.len() < 2 || x <= v[0] {
+        return (0, 0.0);
+    }
+    let last = v.len() - 1;
+    if x >= v[last] {
+        return (last, 0.0);
+    }
+    let i = v.partition_point(|&p| p <= x).clamp(1, last) - 1;
+    (i, (x - v[i]) / (v[i + 1] - v[i]))
 }
 
 /// A response point.
@@ -453,6 +550,17 @@ pub struct StudySpec {
     pub max_mode_frequency_hz: f64,
     /// Absorber design request.
     pub design: Option<DesignSpec>,
+    /// Damping of the structure (`modal_damping_ratio` is its uniform part).
+    pub damping: DampingSpec,
+    /// Elastomer of each absorber of the structure (by index), if it uses one.
+    pub absorber_elastomers: Vec<Option<ElastomerSpec>>,
+    /// Temperatures of the study's cases, in °C.
+    pub temperatures_c: Vec<f64>,
+    /// Random forces.
+    pub random: Vec<RandomSpec>,
+    /// The largest amplitude given in `excitation` (before any spreading over a region), in N; 1
+    /// when there is no harmonic force.
+    pub reference_force: f64,
 }
 
 /// Which named part each element belongs to (for energy shares and the VTK `part` cell array).
@@ -684,4 +792,36 @@ pub fn bounding_diagonal(points: impl Iterator<Item = [f64; 3]>) -> f64 {
         return 0.0;
     }
     distance(lo, hi)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn elastomer_table_is_bilinear_and_held_outside_the_frequencies() {
+        let e = ElastomerSpec {
+            name: "r".into(),
+            frequency_hz: vec![10.0, 110.0],
+            temperatures_c: vec![0.0, 40.0],
+            storage_factor: vec![vec![1.0, 2.0], vec![3.0, 4.0]],
+            loss_factor: vec![vec![0.1, 0.2], vec![0.3, 0.4]],
+        };
+        let close = |a: f64, b: f64| (a - b).abs() < 1e-12;
+        let (k, eta) = e.at(60.0, 10.0);
+        // Half-way in frequency, a quarter of the way in temperature.
+        assert!(close(k, 1.5 + 0.25 * 2.0) && close(eta, 0.15 + 0.25 * 0.2), "{k} {eta}");
+        let (k, _) = e.at(1000.0, 40.0);
+        assert!(close(k, 4.0));
+        let (k, _) = e.at(1.0, 0.0);
+        assert!(close(k, 1.0));
+    }
+
+    #[test]
+    fn random_psd_is_zero_outside_its_table() {
+        let r = RandomSpec { node: 0, direction: DirectionSpec::axis(Axis::X), psd: vec![(10.0, 1.0), (20.0, 3.0)] };
+        assert_eq!(r.psd_at(5.0), 0.0);
+        assert!((r.psd_at(15.0) - 2.0).abs() < 1e-12);
+        assert_eq!(r.psd_at(25.0), 0.0);
+    }
 }

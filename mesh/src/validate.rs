@@ -15,9 +15,10 @@ use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_
 use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DesignSpec, DirectionSpec, LineNodes, LinkSpec, MaterialProperties,
-    MeshNodes, NodalMass, PanelNodes, PointForce, ResponseSpec, ShellElement, SpringElement, Structure, StructureNode,
-    StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
+    LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec, ShellElement,
+    SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal,
+    distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -92,8 +93,16 @@ pub fn validate_with(model: &Model, folder: &Path, limits: &Limits) -> Result<St
     let point_masses = b.point_masses()?;
     let absorbers = b.absorbers()?;
     let study = match &model.study {
-        Some(s) => Some(b.study(s)?),
-        None => None,
+        Some(s) => Some(b.study(s, &fixed)?),
+        None => {
+            if let Some(i) = model.absorbers.iter().position(|a| a.elastomer.is_some()) {
+                return Err(ModelError::Invalid {
+                    at: format!("absorbers[{i}].elastomer"),
+                    message: "an elastomer is defined in study.elastomers, but the model has no study".into(),
+                });
+            }
+            None
+        }
     };
     let mut structure = Structure {
         title: model.title.clone(),
@@ -195,6 +204,54 @@ fn node_ids_hint(nodes: &[StructureNode]) -> String {
         parts.push("...".into());
     }
     format!(" (defined: {})", parts.join(", "))
+}
+
+/// Whether every DOF of `node` along `unit` (translations, or rotations for a moment) is fixed.
+fn held_along(fixed: &[[bool; 6]], node: usize, unit: &[f64; 3], moment: bool) -> bool {
+    let off = if moment { 3 } else { 0 };
+    (0..3).all(|k| unit[k] == 0.0 || fixed.get(node).is_some_and(|f| f[off + k]))
+}
+
+/// Values strictly ascending (and finite), else an error naming the entry.
+fn strictly_ascending(at: &str, v: &[f64], what: &str) -> Result<(), ModelError> {
+    if v.is_empty() {
+        return Err(ModelError::Invalid { at: at.into(), message: format!("give at least one {what}") });
+    }
+    for i in 0..v.len() {
+        if !v[i].is_finite() || (i > 0 && v[i] <= v[i - 1]) {
+            return Err(ModelError::Invalid {
+                at: format!("{at}[{i}]"),
+                message: format!(
+                    "{what} {} is not finite or not above the previous one; give {what}s strictly ascending",
+                    v[i]
+                ),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// A `[[x, y], ...]` table with x strictly ascending and not negative, y finite and not negative.
+fn ascending_table(at: &str, t: &[[f64; 2]], x_name: &str, y_name: &str) -> Result<Vec<(f64, f64)>, ModelError> {
+    let xs: Vec<f64> = t.iter().map(|p| p[0]).collect();
+    strictly_ascending(at, &xs, x_name)?;
+    for (i, p) in t.iter().enumerate() {
+        if p[0] < 0.0 {
+            return Err(ModelError::OutOfRange {
+                at: format!("{at}[{i}]"),
+                field: "frequency",
+                value: p[0],
+                allowed: "0 Hz or more".into(),
+            });
+        }
+        if !(p[1].is_finite() && p[1] >= 0.0) {
+            return Err(ModelError::Invalid {
+                at: format!("{at}[{i}]"),
+                message: format!("{y_name} {} is negative or not finite", p[1]),
+            });
+        }
+    }
+    Ok(t.iter().map(|p| (p[0], p[1])).collect())
 }
 
 fn check_positive(at: &str, field: &'static str, value: f64) -> Result<(), ModelError> {
@@ -1582,6 +1639,14 @@ impl<'a> Builder<'a> {
             let dir = direction(&format!("{at}.direction"), &a.direction)?;
             check_positive(&at, "mass", a.mass)?;
             check_positive(&at, "stiffness", a.stiffness)?;
+            if a.elastomer.is_some() && (a.damping.is_some() || a.loss_factor.is_some()) {
+                return Err(ModelError::Invalid {
+                    at,
+                    message: "an absorber with an elastomer takes its damping from the elastomer's table; \
+                              remove damping and loss_factor"
+                        .into(),
+                });
+            }
             let damping = match (a.damping, a.loss_factor) {
                 (Some(_), Some(_)) => {
                     return Err(ModelError::Invalid {
@@ -1600,7 +1665,7 @@ impl<'a> Builder<'a> {
                 (None, None) => AbsorberDamping::None,
             };
             let name = a.name.clone().unwrap_or_else(|| format!("absorber {}", i + 1));
-            if damping == AbsorberDamping::None {
+            if damping == AbsorberDamping::None && a.elastomer.is_none() {
                 self.warnings.push(format!(
                     "{at} (\"{name}\") has no damping: its response peaks are unbounded at the two coupled frequencies"
                 ));
@@ -1610,7 +1675,7 @@ impl<'a> Builder<'a> {
         Ok(out)
     }
 
-    fn study(&mut self, s: &crate::model::Study) -> Result<StudySpec, ModelError> {
+    fn study(&mut self, s: &crate::model::Study, fixed: &[[bool; 6]]) -> Result<StudySpec, ModelError> {
         let [lo, hi] = s.band_hz;
         if !(lo.is_finite() && hi.is_finite() && lo >= 0.0 && hi > lo) {
             return Err(ModelError::Invalid {
@@ -1618,8 +1683,9 @@ impl<'a> Builder<'a> {
                 message: format!("[{lo}, {hi}] is not a band; give [low, high] with 0 <= low < high, in Hz"),
             });
         }
-        let zeta = s.modal_damping_ratio.unwrap_or(DEFAULT_MODAL_DAMPING_RATIO);
-        if !(zeta > 0.0 && zeta < 1.0) {
+        let zeta = s.modal_damping_ratio.unwrap_or(if s.damping.is_some() { 0.0 } else { DEFAULT_MODAL_DAMPING_RATIO });
+        let zeta_ok = if s.damping.is_some() { (0.0..1.0).contains(&zeta) } else { zeta > 0.0 && zeta < 1.0 };
+        if !zeta_ok {
             return Err(ModelError::OutOfRange {
                 at: "study".into(),
                 field: "modal_damping_ratio",
@@ -1639,7 +1705,6 @@ impl<'a> Builder<'a> {
         let mut excitation = Vec::new();
         for (i, f) in s.excitation.iter().enumerate() {
             let at = format!("study.excitation[{i}]");
-            let node = self.locate(&format!("{at}.at"), &f.at)?;
             let dir = direction(&format!("{at}.direction"), &f.direction)?;
             check_positive(&at, "amplitude", f.amplitude)?;
             let phase = f.phase_deg.unwrap_or(0.0);
@@ -1651,7 +1716,63 @@ impl<'a> Builder<'a> {
                     allowed: "a finite angle in degrees".into(),
                 });
             }
-            excitation.push(PointForce { node, direction: dir, amplitude: f.amplitude, phase_rad: phase.to_radians() });
+            let moment = f.moment.unwrap_or(false);
+            let nodes = if f.spread.unwrap_or(false) {
+                if f.at.region.is_none() {
+                    return Err(ModelError::Invalid {
+                        at,
+                        message: "spread shares the amplitude over a region's nodes: give {\"region\": name} in at"
+                            .into(),
+                    });
+                }
+                self.locate_set(&format!("{at}.at"), &f.at)?
+            } else {
+                vec![self.locate(&format!("{at}.at"), &f.at)?]
+            };
+            let share = f.amplitude / nodes.len() as f64;
+            let mut free = 0;
+            for &node in &nodes {
+                if !held_along(fixed, node, &dir.unit, moment) {
+                    free += 1;
+                }
+                excitation.push(PointForce {
+                    node,
+                    direction: dir.clone(),
+                    amplitude: share,
+                    phase_rad: phase.to_radians(),
+                    moment,
+                });
+            }
+            if free == 0 {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.at"),
+                    message: format!(
+                        "the {} acts where every DOF along its direction is fixed by a support, so it does nothing; \
+                         move it to a free node",
+                        if moment { "moment" } else { "force" }
+                    ),
+                });
+            }
+        }
+        let reference_force = s.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
+        let reference_force = if reference_force > 0.0 { reference_force } else { 1.0 };
+        let damping = self.damping_spec(s, zeta)?;
+        let (absorber_elastomers, temperatures_c) = self.elastomers(s)?;
+        let mut random = Vec::new();
+        for (i, r) in s.random.iter().enumerate() {
+            let at = format!("study.random[{i}]");
+            let node = self.locate(&format!("{at}.at"), &r.at)?;
+            let dir = direction(&format!("{at}.direction"), &r.direction)?;
+            if held_along(fixed, node, &dir.unit, false) {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.at"),
+                    message:
+                        "the random force acts where every DOF along its direction is fixed; move it to a free node"
+                            .into(),
+                });
+            }
+            let psd = ascending_table(&format!("{at}.psd"), &r.psd, "frequency", "PSD")?;
+            random.push(RandomSpec { node, direction: dir, psd });
         }
         let mut response_points = Vec::new();
         for (i, r) in s.response_points.iter().enumerate() {
@@ -1672,7 +1793,187 @@ impl<'a> Builder<'a> {
             modal_damping_ratio: zeta,
             max_mode_frequency_hz: fmax,
             design,
+            damping,
+            absorber_elastomers,
+            temperatures_c,
+            random,
+            reference_force,
         })
+    }
+
+    fn damping_spec(&self, s: &crate::model::Study, zeta: f64) -> Result<DampingSpec, ModelError> {
+        let at = "study.damping";
+        let Some(d) = &s.damping else {
+            return Ok(DampingSpec {
+                modal_ratio: zeta,
+                per_mode: None,
+                table: None,
+                rayleigh: [0.0; 2],
+                loss_factor: 0.0,
+            });
+        };
+        if d.modal_ratio_per_mode.is_some() && d.modal_ratio_table.is_some() {
+            return Err(ModelError::Invalid {
+                at: at.into(),
+                message: "give modal_ratio_per_mode or modal_ratio_table, not both".into(),
+            });
+        }
+        let ratio_ok = |v: f64| (0.0..1.0).contains(&v);
+        if let Some(list) = &d.modal_ratio_per_mode {
+            if list.is_empty() {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.modal_ratio_per_mode"),
+                    message: "the list is empty".into(),
+                });
+            }
+            if let Some((i, &v)) = list.iter().enumerate().find(|(_, v)| !ratio_ok(**v)) {
+                return Err(ModelError::OutOfRange {
+                    at: format!("{at}.modal_ratio_per_mode[{i}]"),
+                    field: "ratio",
+                    value: v,
+                    allowed: "at least 0 and below 1".into(),
+                });
+            }
+        }
+        let table = match &d.modal_ratio_table {
+            None => None,
+            Some(t) => {
+                let t = ascending_table(&format!("{at}.modal_ratio_table"), t, "frequency", "ratio")?;
+                if let Some((i, p)) = t.iter().enumerate().find(|(_, p)| !ratio_ok(p.1)) {
+                    return Err(ModelError::OutOfRange {
+                        at: format!("{at}.modal_ratio_table[{i}]"),
+                        field: "ratio",
+                        value: p.1,
+                        allowed: "at least 0 and below 1".into(),
+                    });
+                }
+                Some(t)
+            }
+        };
+        let alpha = d.rayleigh_alpha.unwrap_or(0.0);
+        let beta = d.rayleigh_beta.unwrap_or(0.0);
+        let eta = d.loss_factor.unwrap_or(0.0);
+        check_non_negative(at, "rayleigh_alpha", alpha)?;
+        check_non_negative(at, "rayleigh_beta", beta)?;
+        check_non_negative(at, "loss_factor", eta)?;
+        Ok(DampingSpec {
+            modal_ratio: zeta,
+            per_mode: d.modal_ratio_per_mode.clone(),
+            table,
+            rayleigh: [alpha, beta],
+            loss_factor: eta,
+        })
+    }
+
+    /// Elastomer of each absorber, and the study temperatures (each inside every used table).
+    #[allow(clippy::type_complexity)]
+    fn elastomers(&self, s: &crate::model::Study) -> Result<(Vec<Option<ElastomerSpec>>, Vec<f64>), ModelError> {
+        let mut tables = BTreeMap::new();
+        for (name, e) in &s.elastomers {
+            let at = format!("study.elastomers.{name}");
+            let fx: Vec<[f64; 2]> = e.frequency_hz.iter().map(|&f| [f, 0.0]).collect();
+            ascending_table(&format!("{at}.frequency_hz"), &fx, "frequency", "value")?;
+            strictly_ascending(&format!("{at}.temperatures_c"), &e.temperatures_c, "temperature")?;
+            for (field, rows) in [("storage_factor", &e.storage_factor), ("loss_factor", &e.loss_factor)] {
+                if rows.len() != e.temperatures_c.len() {
+                    return Err(ModelError::Invalid {
+                        at: format!("{at}.{field}"),
+                        message: format!(
+                            "{} rows given for {} temperatures; give one row per temperature",
+                            rows.len(),
+                            e.temperatures_c.len()
+                        ),
+                    });
+                }
+                for (i, row) in rows.iter().enumerate() {
+                    if row.len() != e.frequency_hz.len() {
+                        return Err(ModelError::Invalid {
+                            at: format!("{at}.{field}[{i}]"),
+                            message: format!(
+                                "{} values given for {} frequencies; give one value per frequency",
+                                row.len(),
+                                e.frequency_hz.len()
+                            ),
+                        });
+                    }
+                    for (j, &v) in row.iter().enumerate() {
+                        let ok = if field == "storage_factor" {
+                            v.is_finite() && v > 0.0
+                        } else {
+                            v.is_finite() && v >= 0.0
+                        };
+                        if !ok {
+                            return Err(ModelError::OutOfRange {
+                                at: format!("{at}.{field}[{i}][{j}]"),
+                                field,
+                                value: v,
+                                allowed: if field == "storage_factor" {
+                                    "a positive factor".into()
+                                } else {
+                                    "a loss factor of 0 or more".into()
+                                },
+                            });
+                        }
+                    }
+                }
+            }
+            tables.insert(
+                name.clone(),
+                ElastomerSpec {
+                    name: name.clone(),
+                    frequency_hz: e.frequency_hz.clone(),
+                    temperatures_c: e.temperatures_c.clone(),
+                    storage_factor: e.storage_factor.clone(),
+                    loss_factor: e.loss_factor.clone(),
+                },
+            );
+        }
+        let mut out = Vec::new();
+        for (i, a) in self.model.absorbers.iter().enumerate() {
+            out.push(match &a.elastomer {
+                None => None,
+                Some(name) => Some(tables.get(name).cloned().ok_or_else(|| ModelError::Invalid {
+                    at: format!("absorbers[{i}].elastomer"),
+                    message: format!(
+                        "no elastomer \"{name}\" in study.elastomers (defined: {})",
+                        if tables.is_empty() {
+                            "none".to_string()
+                        } else {
+                            tables.keys().cloned().collect::<Vec<_>>().join(", ")
+                        }
+                    ),
+                })?),
+            });
+        }
+        let temps = s.temperatures_c.clone();
+        for (i, &t) in temps.iter().enumerate() {
+            if !t.is_finite() {
+                return Err(ModelError::OutOfRange {
+                    at: "study.temperatures_c".into(),
+                    field: "temperature",
+                    value: t,
+                    allowed: "a finite temperature in °C".into(),
+                });
+            }
+            for e in out.iter().flatten() {
+                let (lo, hi) = (e.temperatures_c[0], e.temperatures_c[e.temperatures_c.len() - 1]);
+                if t < lo || t > hi {
+                    return Err(ModelError::OutOfRange {
+                        at: format!("study.temperatures_c[{i}]"),
+                        field: "temperature",
+                        value: t,
+                        allowed: format!("inside the table of elastomer \"{}\", {lo} to {hi} °C", e.name),
+                    });
+                }
+            }
+        }
+        if temps.is_empty() && out.iter().any(Option::is_some) {
+            return Err(ModelError::Invalid {
+                at: "study.temperatures_c".into(),
+                message: "an absorber uses an elastomer: give the temperatures to evaluate it at (°C)".into(),
+            });
+        }
+        Ok((out, temps))
     }
 
     fn design(&mut self, d: &crate::model::AbsorberDesign) -> Result<DesignSpec, ModelError> {

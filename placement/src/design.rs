@@ -200,6 +200,21 @@ fn rule(objective: Objective) -> (&'static str, fn(f64) -> Tuning) {
 /// [`PlacementError::Design`] when no target mode responds, a listed target does not exist among
 /// the computed modes, or no candidate can host an absorber.
 pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Result<Design, PlacementError> {
+    if sm.has_elastomers() {
+        return Err(PlacementError::Design(
+            "the model's absorbers include elastomer springs (absorbers[].elastomer); design works with \
+             constant-stiffness absorbers for now: evaluate the elastomer case with `respond`, or give the existing \
+             absorbers a stiffness and loss_factor"
+                .into(),
+        ));
+    }
+    if !sm.random.is_empty() || sm.loads.is_empty() {
+        return Err(PlacementError::Design(
+            "design uses the harmonic forces of study.excitation only for now; study.random is evaluated by \
+             `respond`: remove it (and give at least one harmonic force) to design"
+                .into(),
+        ));
+    }
     let targets = choose_targets(sm, spec)?;
     let band = sm.band_hz;
     let objective = spec.objective;

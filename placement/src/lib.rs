@@ -25,4 +25,4 @@ pub use design::{
     design,
 };
 pub use error::PlacementError;
-pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, link_of};
+pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, VerifyPoint, link_of, structure_damping};

@@ -2,10 +2,11 @@
 //! model and candidate places, all as coordinates of one [`ModalModel`]; response curves and
 //! peaks with any set of absorbers coupled.
 
-use antinode_mesh::{AbsorberSpec, DirectionSpec, Structure, StudySpec};
+use antinode_mesh::{AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, RandomSpec, Structure, StudySpec};
 use antinode_solver::{
-    AbsorberLink, Complex64, Coordinate, Load, ModalModel, ModalSolution, System, absorber_forces, frequency_grid,
-    golden_max, resonance_peak,
+    AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
+    ModalSolution, StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference,
+    resonance_peak,
 };
 use rayon::prelude::*;
 use serde::Serialize;
@@ -28,6 +29,10 @@ pub struct Candidate {
 pub struct StudyModel {
     /// Modal data at all coordinates below.
     pub model: ModalModel,
+    /// Every coordinate of the modal model (loads, responses, existing absorbers, candidates).
+    pub coords: Vec<Coordinate>,
+    /// Damping of the structure used by the modal model.
+    pub damping: StructureDamping,
     /// Forces.
     pub loads: Vec<Load>,
     /// Response coordinates, one per response point.
@@ -48,8 +53,14 @@ pub struct StudyModel {
     pub natural_hz: Vec<f64>,
     /// Number of zero-energy modes among the kept ones.
     pub n_zero_energy: usize,
-    /// Modal damping ratio.
+    /// Smallest equivalent damping ratio of the kept elastic modes (sets the grid spacing).
     pub damping_ratio: f64,
+    /// Elastomer of each of the model's absorbers (same order as `existing`), if it uses one.
+    pub elastomers: Vec<Option<ElastomerSpec>>,
+    /// Temperature at which elastomers are evaluated, in °C (one of the study's temperatures).
+    pub temperature_c: Option<f64>,
+    /// Random forces: coordinate index and PSD.
+    pub random: Vec<(usize, RandomSpec)>,
     /// Modal factors at each grid frequency (shared by every evaluation).
     grid_factors: Vec<Vec<Complex64>>,
 }
@@ -86,6 +97,23 @@ pub struct GridTable {
     hra: Vec<Complex64>,
 }
 
+/// The modal result against the direct sparse solve at one frequency.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VerifyPoint {
+    /// Frequency, in Hz.
+    pub frequency_hz: f64,
+    /// ‖x_modal − x_direct‖ / ‖x_direct‖ over the response points.
+    pub relative_difference: f64,
+    /// Largest |x_modal − x_direct| over the response points divided by the largest response
+    /// over all checked frequencies (meaningful also at anti-resonances).
+    pub difference_to_peak: f64,
+    /// Largest absorber stroke difference over the largest stroke over all checked frequencies
+    /// (0 without absorbers).
+    pub stroke_difference: f64,
+    /// Relative residual ‖A x − b‖/‖b‖ of the direct solve.
+    pub direct_residual: f64,
+}
+
 /// A response peak.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Peak {
@@ -98,7 +126,18 @@ pub struct Peak {
 }
 
 fn coordinate(node: usize, d: &DirectionSpec) -> Coordinate {
-    Coordinate { node, direction: d.unit }
+    Coordinate { node, direction: d.unit, rotational: false }
+}
+
+/// The solver's damping of a checked study.
+pub fn structure_damping(study: &StudySpec) -> StructureDamping {
+    let d = &study.damping;
+    let modal = match (&d.per_mode, &d.table) {
+        (Some(list), _) => ModalDampingLaw::PerMode(list.clone()),
+        (None, Some(t)) => ModalDampingLaw::Table(t.clone()),
+        (None, None) => ModalDampingLaw::Uniform(d.modal_ratio),
+    };
+    StructureDamping { modal, rayleigh: d.rayleigh, loss_factor: d.loss_factor }
 }
 
 /// The link of an absorber of the model at coordinate `coord`.
@@ -121,8 +160,10 @@ impl StudyModel {
         study: &StudySpec,
         with_candidates: bool,
     ) -> Result<Self, PlacementError> {
-        if study.excitation.is_empty() {
-            return Err(PlacementError::Study("the study has no excitation: add study.excitation".into()));
+        if study.excitation.is_empty() && study.random.is_empty() {
+            return Err(PlacementError::Study(
+                "the study has no excitation: add study.excitation (harmonic forces) or study.random".into(),
+            ));
         }
         if study.response_points.is_empty() {
             return Err(PlacementError::Study("the study has no response point: add study.response_points".into()));
@@ -131,7 +172,12 @@ impl StudyModel {
         let mut loads = Vec::new();
         for f in &study.excitation {
             loads.push(Load { coord: coords.len(), amplitude: Complex64::from_polar(f.amplitude, f.phase_rad) });
-            coords.push(coordinate(f.node, &f.direction));
+            coords.push(Coordinate { node: f.node, direction: f.direction.unit, rotational: f.moment });
+        }
+        let mut random = Vec::new();
+        for r in &study.random {
+            random.push((coords.len(), r.clone()));
+            coords.push(coordinate(r.node, &r.direction));
         }
         let mut responses = Vec::new();
         for r in &study.response_points {
@@ -154,13 +200,21 @@ impl StudyModel {
                 }
             }
         }
-        let model = ModalModel::build(system, modes, &coords, study.modal_damping_ratio, true)?;
+        let damping = structure_damping(study);
+        let model = ModalModel::build_damped(system, modes, &coords, &damping, true)?;
         let natural_hz: Vec<f64> = (0..modes.n_modes()).map(|i| modes.frequency_hz(i)).collect();
-        let grid_hz = frequency_grid(study.band_hz, &natural_hz, study.modal_damping_ratio);
-        let reference_force = study.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
+        // Grid spacing from the lightest equivalent damping of the kept elastic modes.
+        let lightest = (modes.n_zero_energy..modes.n_modes())
+            .map(|r| damping.equivalent_ratio(r, modes.eigenvalues[r], false))
+            .fold(f64::INFINITY, f64::min);
+        let grid_ratio = if lightest.is_finite() && lightest > 0.0 { lightest } else { study.modal_damping_ratio };
+        let grid_hz = frequency_grid(study.band_hz, &natural_hz, grid_ratio);
+        let reference_force = study.reference_force;
         let grid_factors = grid_hz.iter().map(|&f| model.modal_factors(2.0 * std::f64::consts::PI * f)).collect();
         Ok(Self {
             model,
+            coords,
+            damping,
             loads,
             responses,
             response_names: study.response_points.iter().map(|r| r.name.clone()).collect(),
@@ -171,7 +225,10 @@ impl StudyModel {
             reference_force,
             natural_hz,
             n_zero_energy: modes.n_zero_energy,
-            damping_ratio: study.modal_damping_ratio,
+            damping_ratio: grid_ratio,
+            elastomers: study.absorber_elastomers.clone(),
+            random,
+            temperature_c: study.temperatures_c.first().copied(),
             grid_factors,
         })
     }
@@ -189,7 +246,34 @@ impl StudyModel {
         self.response_with(&self.grid_factors[i], omega, absorbers)
     }
 
+    /// `links` with the model's elastomer absorbers (the first `existing.len()` entries) evaluated at
+    /// `f_hz` and [`StudyModel::temperature_c`]: k = k_ref · factor(f, T), k* = k(1 + iη(f, T)).
+    pub fn links_at(&self, f_hz: f64, links: &[AbsorberLink]) -> Vec<AbsorberLink> {
+        let mut out = links.to_vec();
+        let t = self.temperature_c.unwrap_or(0.0);
+        for (link, e) in out.iter_mut().zip(&self.elastomers) {
+            if let Some(e) = e {
+                let (factor, eta) = e.at(f_hz, t);
+                link.stiffness *= factor;
+                link.damping = AbsorberDamping::LossFactor(eta);
+            }
+        }
+        out
+    }
+
+    /// Whether any of the model's absorbers uses an elastomer.
+    pub fn has_elastomers(&self) -> bool {
+        self.elastomers.iter().any(Option::is_some)
+    }
+
     fn response_with(&self, factors: &[Complex64], omega: f64, absorbers: &[AbsorberLink]) -> (f64, usize) {
+        let evaluated;
+        let absorbers = if self.has_elastomers() {
+            evaluated = self.links_at(omega / (2.0 * std::f64::consts::PI), absorbers);
+            &evaluated[..]
+        } else {
+            absorbers
+        };
         let r = self.model.coupled_response_with(factors, omega, &self.loads, &self.responses, absorbers);
         let mut best = (0.0, 0);
         for (i, x) in r.displacement.iter().enumerate() {
@@ -201,6 +285,113 @@ impl StudyModel {
         best
     }
 
+    /// The modal response with `absorbers` against the direct sparse complex solve of the whole
+    /// structure with the same absorbers and damping ([`DirectSolver`]) at each of `freq_hz`.
+    ///
+    /// # Errors
+    /// Solver errors of the direct solve.
+    pub fn verify(
+        &self,
+        system: &System,
+        modes: &ModalSolution,
+        freq_hz: &[f64],
+        absorbers: &[AbsorberLink],
+    ) -> Result<Vec<VerifyPoint>, PlacementError> {
+        // Elastomer springs change with frequency: then one solver per frequency.
+        let shared = if self.has_elastomers() {
+            None
+        } else {
+            Some(DirectSolver::new(system, modes, &self.damping, &self.coords, absorbers)?)
+        };
+        let rows: Vec<(f64, CoupledResponse, CoupledResponse, f64)> = freq_hz
+            .par_iter()
+            .map(|&f| {
+                let omega = 2.0 * std::f64::consts::PI * f;
+                let links = self.links_at(f, absorbers);
+                let m = self.model.coupled_response(omega, &self.loads, &self.responses, &links);
+                let d = match &shared {
+                    Some(direct) => direct.solve(omega, &self.loads, &self.responses)?,
+                    None => DirectSolver::new(system, modes, &self.damping, &self.coords, &links)?.solve(
+                        omega,
+                        &self.loads,
+                        &self.responses,
+                    )?,
+                };
+                Ok((f, m, d.response, d.residual))
+            })
+            .collect::<Result<_, antinode_solver::SolverError>>()?;
+        let largest = |pick: &dyn Fn(&CoupledResponse) -> &Vec<Complex64>| -> f64 {
+            rows.iter().flat_map(|r| pick(&r.2).iter().map(|z| z.norm())).fold(0.0, f64::max)
+        };
+        let peak = largest(&|r| &r.displacement);
+        let stroke_peak = largest(&|r| &r.stroke);
+        let worst = |a: &[Complex64], b: &[Complex64]| -> f64 {
+            a.iter().zip(b).map(|(x, y)| (x - y).norm()).fold(0.0, f64::max)
+        };
+        Ok(rows
+            .iter()
+            .map(|(f, m, d, res)| VerifyPoint {
+                frequency_hz: *f,
+                relative_difference: relative_difference(&m.displacement, &d.displacement),
+                difference_to_peak: if peak > 0.0 { worst(&m.displacement, &d.displacement) / peak } else { 0.0 },
+                stroke_difference: if stroke_peak > 0.0 { worst(&m.stroke, &d.stroke) / stroke_peak } else { 0.0 },
+                direct_residual: *res,
+            })
+            .collect())
+    }
+
+    /// RMS displacement at each response point under the study's random forces (uncorrelated),
+    /// with `absorbers`, in m:
+    ///
+    /// ```text
+    /// σ_p² = Σ_l ∫_band |H_pl(f)|² G_l(f) df
+    /// ```
+    ///
+    /// with G_l the one-sided force PSD (N²/Hz) and H_pl the coupled receptance. The integral runs
+    /// over the band on the study grid (spacing ζf/2 around every mode, plus the band's lower
+    /// edge) with Simpson's rule on each grid interval, which resolves the lightly damped peaks.
+    pub fn random_rms(&self, absorbers: &[AbsorberLink]) -> Vec<f64> {
+        let [lo, hi] = self.band_hz;
+        let mut grid: Vec<f64> = self.grid_hz.iter().copied().filter(|&f| f >= lo && f <= hi).collect();
+        // The grid starts above 0 (10⁻³ of the top at the lowest): the quasi-static stretch below
+        // is smooth, one Simpson interval covers it.
+        if grid.first().is_some_and(|&g| g > lo) {
+            grid.insert(0, lo);
+        }
+        let density = |f: f64| -> Vec<f64> {
+            let omega = 2.0 * std::f64::consts::PI * f;
+            let links = self.links_at(f, absorbers);
+            let mut s = vec![0.0; self.responses.len()];
+            for (coord, spec) in &self.random {
+                let g = spec.psd_at(f);
+                if g == 0.0 {
+                    continue;
+                }
+                let unit = [Load { coord: *coord, amplitude: Complex64::new(1.0, 0.0) }];
+                let r = self.model.coupled_response(omega, &unit, &self.responses, &links);
+                for (sp, x) in s.iter_mut().zip(&r.displacement) {
+                    *sp += x.norm_sqr() * g;
+                }
+            }
+            s
+        };
+        let intervals: Vec<Vec<f64>> = grid
+            .par_windows(2)
+            .map(|w| {
+                let (a, b) = (w[0], w[1]);
+                let (fa, fm, fb) = (density(a), density(0.5 * (a + b)), density(b));
+                (0..fa.len()).map(|p| (b - a) / 6.0 * (fa[p] + 4.0 * fm[p] + fb[p])).collect()
+            })
+            .collect();
+        let mut total = vec![0.0; self.responses.len()];
+        for v in intervals {
+            for (t, x) in total.iter_mut().zip(v) {
+                *t += x;
+            }
+        }
+        total.into_iter().map(f64::sqrt).collect()
+    }
+
     /// Curves over `freq_hz` with `absorbers` coupled.
     pub fn curves(&self, freq_hz: &[f64], absorbers: &[AbsorberLink]) -> Curves {
         let f0 = self.reference_force;
@@ -209,7 +400,8 @@ impl StudyModel {
         let mut spring_force = vec![Vec::with_capacity(freq_hz.len()); absorbers.len()];
         for &f in freq_hz {
             let omega = 2.0 * std::f64::consts::PI * f;
-            let r = self.model.coupled_response(omega, &self.loads, &self.responses, absorbers);
+            let at_f = self.links_at(f, absorbers);
+            let r = self.model.coupled_response(omega, &self.loads, &self.responses, &at_f);
             for (i, x) in r.displacement.iter().enumerate() {
                 response[i].push(x / f0);
             }

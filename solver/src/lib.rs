@@ -15,6 +15,7 @@
 //!   (k* = k(1 + iη)).
 
 mod assembly;
+mod direct;
 mod dofs;
 mod eigen;
 pub mod element;
@@ -27,6 +28,7 @@ mod response;
 mod statics;
 
 pub use assembly::{AssemblyOptions, System, assemble};
+pub use direct::{DirectResponse, DirectSolver, relative_difference};
 pub use dofs::{DofMap, DofOwner};
 pub use eigen::{
     EigenParams, Method, ModalSolution, ModeRequest, SolveStats, SturmCheck, check_zero_energy, confirm_zero_energy,
@@ -40,8 +42,8 @@ pub use insight::{
 pub use matrices::{system_from_matrix_market, write_matrix_market};
 pub use num_complex::Complex64;
 pub use response::{
-    AbsorberLink, Coordinate, CoupledResponse, Load, ModalModel, absorber_forces, frequency_grid, golden_max,
-    refined_peaks, resonance_peak,
+    AbsorberLink, Coordinate, CoupledResponse, Load, ModalDampingLaw, ModalModel, StructureDamping, absorber_forces,
+    frequency_grid, golden_max, interpolate, refined_peaks, resonance_peak,
 };
 pub use statics::solve_static;
 

@@ -17,6 +17,18 @@
 //! shift of the eigen solution (0, or slightly negative for a free body, where the static
 //! flexibility does not exist).
 //!
+//! The truncated modes' first dynamic term is kept too: expanding 1/(λ − ω²) about σ,
+//!
+//! ```text
+//! Σ_trunc φφᵀ/(λ − ω²) ≈ R + (ω² − σ) S,   S_ab = Σ_trunc φ_a φ_b/(λ − σ)² = X_aᵀ M X_b
+//! ```
+//!
+//! where X = [(K − σM)⁻¹ − Σ_r φ_r φ_rᵀ/(λ_r − σ)] E are the residual solutions already computed,
+//! so S costs one product with M and no solve (a residual-mass correction; derived here from the
+//! series, in the spirit of the higher-order mode-acceleration methods — common practice). The
+//! truncation error then falls as (ω²/λ_cut)² instead of ω²/λ_cut. With a structural loss factor
+//! the truncated terms are R/(1 + iη) + (ω² − σ) S/(1 + iη)².
+//!
 //! Absorbers: mass m on a spring of complex stiffness k* (k + iωc viscous, or k(1 + iη) hysteretic)
 //! attached at coordinate a along its direction. With y_i = x_ai/(k*_i − ω²m_i) the coupled
 //! equations are
@@ -39,25 +51,134 @@ use crate::assembly::System;
 use crate::eigen::ModalSolution;
 use crate::error::SolverError;
 
-/// Displacement of a node along a unit direction (translations only).
+/// Displacement of a node along a unit direction, or its rotation about one.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Coordinate {
     /// Node index.
     pub node: usize,
     /// Unit direction.
     pub direction: [f64; 3],
+    /// A rotation about `direction` (rad) instead of a translation along it; its load is a moment.
+    pub rotational: bool,
+}
+/// Viscous modal damping ratio as a function of the mode.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ModalDampingLaw {
+    /// One ratio ζ for every elastic mode, dimensionless.
+    Uniform(f64),
+    /// ζ of each mode by number from 0 (zero-energy modes included in the count); modes past the
+    /// end of the list take its last value.
+    PerMode(Vec<f64>),
+    /// (frequency in Hz, ζ) pairs with ascending frequencies: ζ of a mode is interpolated linearly
+    /// at its natural frequency and held at the end values outside the table.
+    Table(Vec<(f64, f64)>),
+}
+
+impl ModalDampingLaw {
+    /// ζ of mode `r` (from 0) with natural frequency `f_hz`.
+    pub fn ratio(&self, r: usize, f_hz: f64) -> f64 {
+        match self {
+            Self::Uniform(z) => *z,
+            Self::PerMode(list) => list.get(r).or(list.last()).copied().unwrap_or(0.0),
+            Self::Table(t) => interpolate(t, f_hz),
+        }
+    }
+}
+
+/// Linear interpolation in a table of (x, y) pairs with ascending x, held constant outside it.
+pub fn interpolate(t: &[(f64, f64)], x: f64) -> f64 {
+    match t {
+        [] => 0.0,
+        [only] => only.1,
+        _ => {
+            if x <= t[0].0 {
+                return t[0].1;
+            }
+            let last = t[t.len() - 1];
+            if x >= last.0 {
+                return last.1;
+            }
+            let i = t.partition_point(|p| p.0 <= x).clamp(1, t.len() - 1);
+            let ((x0, y0), (x1, y1)) = (t[i - 1], t[i]);
+            y0 + (y1 - y0) * (x - x0) / (x1 - x0)
+        }
+    }
+}
+
+/// Damping of the structure (absorbers carry their own). The three parts add:
+///
+/// ```text
+/// K* = K (1 + iη)            structural loss factor η (hysteretic, frequency independent)
+/// C  = αM + βK               Rayleigh damping, α in 1/s, β in s
+///    + M Φ diag(2ζ_r ω_r) Φᵀ M   viscous modal damping of the kept modes
+/// ```
+///
+/// In modal coordinates mode r then has the factor 1/(λ_r(1 + iη) − ω² + iω(2ζ_r ω_r + α + βλ_r)),
+/// exactly. Zero-energy modes take no modal ratio (Rayleigh α still damps them).
+#[derive(Debug, Clone, PartialEq)]
+pub struct StructureDamping {
+    /// Viscous modal damping ratios.
+    pub modal: ModalDampingLaw,
+    /// Rayleigh coefficients [α in 1/s, β in s].
+    pub rayleigh: [f64; 2],
+    /// Structural loss factor η, dimensionless.
+    pub loss_factor: f64,
+}
+
+impl StructureDamping {
+    /// Viscous modal damping ratio ζ on every elastic mode, nothing else.
+    pub fn modal(ratio: f64) -> Self {
+        Self { modal: ModalDampingLaw::Uniform(ratio), rayleigh: [0.0, 0.0], loss_factor: 0.0 }
+    }
+
+    /// The modal-ratio part 2ζ_r ω_r of mode r with eigenvalue λ (rad²/s²), in 1/s;
+    /// `zero_energy` modes take none.
+    pub fn modal_viscous(&self, r: usize, lambda: f64, zero_energy: bool) -> f64 {
+        let w = lambda.max(0.0).sqrt();
+        let zeta = if zero_energy { 0.0 } else { self.modal.ratio(r, w / (2.0 * std::f64::consts::PI)) };
+        2.0 * zeta * w
+    }
+
+    /// Viscous modal coefficient c_r = 2ζ_r ω_r + α + βλ_r of mode r with eigenvalue λ (rad²/s²),
+    /// in 1/s; `zero_energy` modes take no modal ratio.
+    pub fn modal_coefficient(&self, r: usize, lambda: f64, zero_energy: bool) -> f64 {
+        self.modal_viscous(r, lambda, zero_energy) + self.rayleigh[0] + self.rayleigh[1] * lambda.max(0.0)
+    }
+
+    /// Equivalent viscous damping ratio of mode r at resonance: c_r/(2ω_r) + η/2.
+    pub fn equivalent_ratio(&self, r: usize, lambda: f64, zero_energy: bool) -> f64 {
+        let w = lambda.max(0.0).sqrt();
+        if w <= 0.0 {
+            return 0.0;
+        }
+        self.modal_coefficient(r, lambda, zero_energy) / (2.0 * w) + 0.5 * self.loss_factor
+    }
+}
+
+/// A coordinate as weights on the free DOFs: u_c = Σ w q_i (three terms, or a link's).
+pub(crate) fn coordinate_taps(system: &System, co: &Coordinate) -> Vec<(usize, f64)> {
+    (0..3).flat_map(|k| system.dofs.terms(co.node, k).iter().map(move |&(i, w)| (i, w * co.direction[k]))).collect()
 }
 
 /// Modal data at a set of coordinates: everything a frequency response needs.
 #[derive(Debug, Clone)]
 pub struct ModalModel {
     eigenvalues: Vec<f64>,
-    damping: Vec<f64>,
+    /// Viscous modal coefficient c_r of each kept mode, in 1/s.
+    viscous: Vec<f64>,
+    /// Structural loss factor η.
+    loss_factor: f64,
+    /// 1/(1 + iη): the residual flexibility's factor.
+    residual_factor: Complex64,
     n_coords: usize,
     /// φ[c · n_modes + r] = eᵀ φ_r(node).
     phi: Vec<f64>,
     /// Residual flexibility among the coordinates, row-major n_coords², in m/N.
     residual: Vec<f64>,
+    /// Second-order residual S among the coordinates, row-major n_coords², in m·s²/(N·rad²).
+    residual_mass: Vec<f64>,
+    /// Expansion point σ of the residual terms, in rad²/s².
+    sigma: f64,
 }
 
 /// An absorber attached at a coordinate of a [`ModalModel`].
@@ -123,17 +244,25 @@ impl ModalModel {
         damping_ratio: f64,
         with_residual: bool,
     ) -> Result<Self, SolverError> {
+        Self::build_damped(system, solution, coords, &StructureDamping::modal(damping_ratio), with_residual)
+    }
+
+    /// As [`ModalModel::build`] with any [`StructureDamping`]. With a loss factor η the residual
+    /// flexibility is divided by (1 + iη): the truncated modes respond quasi-statically to K(1 + iη).
+    ///
+    /// # Errors
+    /// [`SolverError::Factorization`] if K − σM cannot be factored for the residual.
+    pub fn build_damped(
+        system: &System,
+        solution: &ModalSolution,
+        coords: &[Coordinate],
+        damping: &StructureDamping,
+        with_residual: bool,
+    ) -> Result<Self, SolverError> {
         let nm = solution.n_modes();
         let nc = coords.len();
         // Each coordinate touches a few free DOFs (three, or a link's): gather instead of dense products.
-        let taps: Vec<Vec<(usize, f64)>> = coords
-            .iter()
-            .map(|co| {
-                (0..3)
-                    .flat_map(|k| system.dofs.terms(co.node, k).iter().map(move |&(i, w)| (i, w * co.direction[k])))
-                    .collect()
-            })
-            .collect();
+        let taps: Vec<Vec<(usize, f64)>> = coords.iter().map(|co| coordinate_taps(system, co)).collect();
         let gather = |col: &[f64], c: usize| -> f64 { taps[c].iter().map(|&(i, w)| w * col[i]).sum() };
         let mut phi = vec![0.0; nc * nm];
         for r in 0..nm {
@@ -142,8 +271,11 @@ impl ModalModel {
                 phi[c * nm + r] = gather(shape, c);
             }
         }
-        let damping = (0..nm).map(|r| if r < solution.n_zero_energy { 0.0 } else { damping_ratio }).collect();
+        let viscous = (0..nm)
+            .map(|r| damping.modal_coefficient(r, solution.eigenvalues[r], r < solution.n_zero_energy))
+            .collect();
         let mut residual = vec![0.0; nc * nc];
+        let mut residual_mass = vec![0.0; nc * nc];
         if with_residual && nc > 0 {
             let sigma = solution.shift;
             let factor = system.factorizer.llt(system.shifted(sigma))?.ok_or_else(|| SolverError::Factorization {
@@ -176,6 +308,12 @@ impl ModalModel {
                     residual[a * nc + b] = gather(col, a);
                 }
             }
+            let s = x.transpose() * system.mul_m(x.as_ref());
+            for a in 0..nc {
+                for b in 0..nc {
+                    residual_mass[a * nc + b] = 0.5 * (s[(a, b)] + s[(b, a)]);
+                }
+            }
             for a in 0..nc {
                 for b in (a + 1)..nc {
                     let v = 0.5 * (residual[a * nc + b] + residual[b * nc + a]);
@@ -184,7 +322,17 @@ impl ModalModel {
                 }
             }
         }
-        Ok(Self { eigenvalues: solution.eigenvalues.clone(), damping, n_coords: nc, phi, residual })
+        Ok(Self {
+            eigenvalues: solution.eigenvalues.clone(),
+            viscous,
+            loss_factor: damping.loss_factor,
+            residual_factor: Complex64::new(1.0, damping.loss_factor).inv(),
+            n_coords: nc,
+            phi,
+            residual,
+            residual_mass,
+            sigma: solution.shift,
+        })
     }
 
     /// Number of modes kept.
@@ -207,28 +355,43 @@ impl ModalModel {
         self.phi[c * self.n_modes() + r]
     }
 
+    /// Second-order residual S between coordinates `a` and `b` (see the module notes), in
+    /// m·s²/(N·rad²).
+    pub fn residual_mass(&self, a: usize, b: usize) -> f64 {
+        self.residual_mass[a * self.n_coords + b]
+    }
+
     /// Residual flexibility between coordinates `a` and `b`, in m/N.
     pub fn residual(&self, a: usize, b: usize) -> f64 {
         self.residual[a * self.n_coords + b]
     }
 
-    /// Modal factors 1/(λ_r − ω² + 2iζ_r ω_r ω) at ω (rad/s), one per kept mode.
+    /// Viscous modal coefficients c_r (= 2ζ_r ω_r + α + βλ_r), in 1/s.
+    pub fn viscous_coefficients(&self) -> &[f64] {
+        &self.viscous
+    }
+
+    /// Modal factors 1/(λ_r(1 + iη) − ω² + iω c_r) at ω (rad/s), one per kept mode, followed by
+    /// the two factors of the residual terms, 1/(1 + iη) and (ω² − σ)/(1 + iη)²
+    /// (n_modes + 2 values, for [`ModalModel::receptance_with`]).
     pub fn modal_factors(&self, omega: f64) -> Vec<Complex64> {
-        self.eigenvalues
+        let mut f: Vec<Complex64> = self
+            .eigenvalues
             .iter()
-            .zip(&self.damping)
-            .map(|(&l, &z)| {
-                let wr = l.max(0.0).sqrt();
-                Complex64::new(l - omega * omega, 2.0 * z * wr * omega).inv()
-            })
-            .collect()
+            .zip(&self.viscous)
+            .map(|(&l, &c)| Complex64::new(l - omega * omega, l.max(0.0) * self.loss_factor + c * omega).inv())
+            .collect();
+        f.push(self.residual_factor);
+        f.push(self.residual_factor * self.residual_factor * (omega * omega - self.sigma));
+        f
     }
 
     /// Receptance H_ab from precomputed modal factors, in m/N.
     pub fn receptance_with(&self, factors: &[Complex64], a: usize, b: usize) -> Complex64 {
         let nm = self.n_modes();
         let (pa, pb) = (&self.phi[a * nm..(a + 1) * nm], &self.phi[b * nm..(b + 1) * nm]);
-        let mut h = Complex64::new(self.residual[a * self.n_coords + b], 0.0);
+        let ab = a * self.n_coords + b;
+        let mut h = factors[nm] * self.residual[ab] + factors[nm + 1] * self.residual_mass[ab];
         for r in 0..nm {
             h += factors[r] * (pa[r] * pb[r]);
         }
@@ -475,6 +638,19 @@ pub fn refined_peaks(freq_hz: &[f64], values: &[f64], eval: impl Fn(f64) -> f64)
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn modal_damping_laws() {
+        let t = ModalDampingLaw::Table(vec![(10.0, 0.01), (30.0, 0.03)]);
+        assert!((t.ratio(0, 20.0) - 0.02).abs() < 1e-15 && t.ratio(0, 50.0) == 0.03 && t.ratio(0, 1.0) == 0.01);
+        let p = ModalDampingLaw::PerMode(vec![0.01, 0.02]);
+        assert!(p.ratio(1, 0.0) == 0.02 && p.ratio(7, 0.0) == 0.02);
+        // Rayleigh: c_r = α + βλ; equivalent ratio c/(2ω) + η/2.
+        let d = StructureDamping { modal: ModalDampingLaw::Uniform(0.0), rayleigh: [2.0, 1e-4], loss_factor: 0.02 };
+        let lambda: f64 = 1.0e4;
+        assert!((d.modal_coefficient(0, lambda, false) - 3.0).abs() < 1e-12);
+        assert!((d.equivalent_ratio(0, lambda, false) - (3.0 / 200.0 + 0.01)).abs() < 1e-12);
+    }
 
     #[test]
     fn golden_section_finds_a_parabola_top() {
