@@ -3,7 +3,7 @@
 
 mod common;
 use antinode::mesh::{AbsorberDamping, AbsorberSpec, Axis, DirectionSpec};
-use antinode::placement::{StudyModel, design, tuning::den_hartog_brock};
+use antinode::placement::{StudyModel, tuning::den_hartog_brock};
 use antinode::solver::{
     AbsorberLink, AssemblyOptions, Complex64, Coordinate, EigenParams, Load, ModalModel, ModeRequest, assemble,
     refined_peaks, solve_modes,
@@ -170,19 +170,8 @@ fn ss_design(
                                  "directions": ["z"]}}}}
 }}"#
     );
-    let s = structure(&json);
-    let sys = system(&s);
-    let study = s.study.clone().unwrap_or_else(|| panic!("study"));
-    let sol = solve_modes(
-        &sys,
-        ModeRequest::Band { low_hz: 0.0, high_hz: study.max_mode_frequency_hz },
-        &EigenParams::default(),
-    )
-    .unwrap_or_else(|e| panic!("{e}"));
-    let sm = StudyModel::build(&s, &sys, &sol, &study, true).unwrap_or_else(|e| panic!("{e}"));
-    let spec = study.design.clone().unwrap_or_else(|| panic!("design"));
-    let d = design(&sm, &spec, &s).unwrap_or_else(|e| panic!("{e}"));
-    (s, d, sol)
+    let d = designed(&json);
+    (d.structure, d.design, d.modes)
 }
 
 #[test]

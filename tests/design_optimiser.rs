@@ -30,19 +30,8 @@ fn sdof(mu: f64, zeta: f64, extra: &str) -> String {
 const X_ST: f64 = 1e-5;
 
 fn run(json: &str) -> (Structure, StudyModel, Design) {
-    let s = structure(json);
-    let sys = system(&s);
-    let study = s.study.clone().unwrap_or_else(|| panic!("study"));
-    let sol = solve_modes(
-        &sys,
-        ModeRequest::Band { low_hz: 0.0, high_hz: study.max_mode_frequency_hz },
-        &EigenParams::default(),
-    )
-    .unwrap_or_else(|e| panic!("{e}"));
-    let sm = StudyModel::build(&s, &sys, &sol, &study, true).unwrap_or_else(|e| panic!("{e}"));
-    let spec = study.design.clone().unwrap_or_else(|| panic!("design"));
-    let d = design(&sm, &spec, &s).unwrap_or_else(|e| panic!("{e}"));
-    (s, sm, d)
+    let d = designed(json);
+    (d.structure, d.study, d.design)
 }
 
 /// Exact H∞ optimum of an absorber on an undamped primary under harmonic force (Nishihara &

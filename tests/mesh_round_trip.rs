@@ -1,6 +1,7 @@
 //! Mesh round trip (issue 5): generated models exported as a VTK mesh plus a model that imports it
 //! (`export_mesh`), read back from disk and checked again, give the same K, M and modes, through
-//! both the XML `.vtu` and the legacy ASCII `.vtk` file.
+//! both the XML `.vtu` and the legacy ASCII `.vtk` file. These are identity checks of our own
+//! export and import (no outside reference applies; common practice for file round trips).
 //!
 //! Why the tolerances are tight: coordinates are written as f64 (base64 of the bytes in `.vtu`,
 //! the shortest decimal that reads back to the same double in legacy ASCII), sections and

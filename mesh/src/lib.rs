@@ -31,12 +31,13 @@
 //!              "section": "bar", "material": "steel"}],
 //!   "supports": [{"at": {"line": "shaft", "at": 0.0}, "fixed": "clamped"}]
 //! }"#;
-//! let model = parse_model(text, std::path::Path::new("example.json")).unwrap();
-//! let s = validate(&model).unwrap();
+//! let model = parse_model(text, std::path::Path::new("example.json"))?;
+//! let s = validate(&model)?;
 //! assert_eq!(s.nodes.len(), 11);
 //! assert_eq!(s.beams.len(), 10);
 //! let mass = 7850.0 * std::f64::consts::PI * 0.01f64.powi(2);
 //! assert!((s.total_mass() - mass).abs() < 1e-9 * mass);
+//! # Ok::<(), antinode_mesh::ModelError>(())
 //! ```
 
 mod error;

@@ -4,6 +4,7 @@
 pub mod shells;
 
 use antinode::mesh::{Structure, parse_model, validate};
+use antinode::placement::{Design, StudyModel, design};
 use antinode::solver::{
     AssemblyOptions, EigenParams, Method, ModalSolution, ModeRequest, System, assemble, solve_modes,
 };
@@ -66,3 +67,29 @@ pub const FREE_FRAME: &str = r#"{
   ],
   "point_masses": [{"at": {"line": "b", "at": 0.5}, "mass": 0.3, "inertia": [1e-4, 2e-4, 1e-4]}]
 }"#;
+
+/// A model's study run end to end: the modes up to the study's `max_mode_frequency_hz`, the reduced
+/// study model (with residual flexibility) and the absorber design of its design block.
+pub struct Designed {
+    pub structure: Structure,
+    pub modes: ModalSolution,
+    pub study: StudyModel,
+    pub design: Design,
+}
+
+/// Solves the study of `json` and designs its absorbers; panics on any error (test input is ours).
+pub fn designed(json: &str) -> Designed {
+    let s = structure(json);
+    let sys = system(&s);
+    let study = s.study.clone().unwrap_or_else(|| panic!("study"));
+    let sol = solve_modes(
+        &sys,
+        ModeRequest::Band { low_hz: 0.0, high_hz: study.max_mode_frequency_hz },
+        &EigenParams::default(),
+    )
+    .unwrap_or_else(|e| panic!("{e}"));
+    let sm = StudyModel::build(&s, &sys, &sol, &study, true).unwrap_or_else(|e| panic!("{e}"));
+    let spec = study.design.clone().unwrap_or_else(|| panic!("design"));
+    let d = design(&sm, &spec, &s).unwrap_or_else(|e| panic!("{e}"));
+    Designed { structure: s, modes: sol, study: sm, design: d }
+}
