@@ -10,8 +10,9 @@
 //! and spring forces unchanged. So one table of nominal receptances over a grid that covers
 //! [f_lo/s_max, f_hi/s_min] serves every scenario: physical frequency f = s·g for grid point g.
 
+use crate::study::GridTable;
 use antinode_mesh::{AbsorberDamping, UncertaintySpec};
-use antinode_solver::{AbsorberLink, Complex64, absorber_forces, frequency_grid, golden_max, resonance_peak};
+use antinode_solver::{AbsorberLink, Complex64, frequency_grid, golden_max, resonance_peak};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -92,12 +93,8 @@ pub struct Evaluator<'a> {
     pub windows: Vec<[f64; 2]>,
     n_fixed: usize,
     na: usize,
-    nr: usize,
     grid: Vec<f64>,
-    fa: Vec<Complex64>,
-    fr: Vec<Complex64>,
-    haa: Vec<Complex64>,
-    hra: Vec<Complex64>,
+    table: GridTable,
 }
 
 impl<'a> Evaluator<'a> {
@@ -121,56 +118,18 @@ impl<'a> Evaluator<'a> {
         let coarse = if scenarios.len() > 1 { 2.0 } else { 1.0 };
         let grid = frequency_grid([blo / smax * 0.99, bhi / smin * 1.01], &sm.natural_hz, coarse * sm.damping_ratio);
         let (na, nr) = (coords.len(), sm.responses.len());
-        let rows: Vec<_> = grid
+        let rows: Vec<GridTable> = grid
             .par_iter()
-            .map(|&g| {
-                let f = sm.model.modal_factors(2.0 * std::f64::consts::PI * g);
-                let m = &sm.model;
-                let forced = |c: usize| -> Complex64 {
-                    sm.loads.iter().map(|l| m.receptance_with(&f, c, l.coord) * l.amplitude).sum()
-                };
-                let fa: Vec<Complex64> = coords.iter().map(|&c| forced(c)).collect();
-                let fr: Vec<Complex64> = sm.responses.iter().map(|&r| forced(r)).collect();
-                let haa: Vec<Complex64> = coords
-                    .iter()
-                    .flat_map(|&a| coords.iter().map(move |&b| (a, b)))
-                    .map(|(a, b)| m.receptance_with(&f, a, b))
-                    .collect();
-                let hra: Vec<Complex64> = sm
-                    .responses
-                    .iter()
-                    .flat_map(|&r| coords.iter().map(move |&a| (r, a)))
-                    .map(|(r, a)| m.receptance_with(&f, r, a))
-                    .collect();
-                (fa, fr, haa, hra)
-            })
+            .map(|&g| sm.table_row(&sm.model.modal_factors(2.0 * std::f64::consts::PI * g), coords))
             .collect();
-        let mut e = Evaluator {
-            sm,
-            scenarios,
-            windows,
-            n_fixed,
-            na,
-            nr,
-            grid,
-            fa: Vec::new(),
-            fr: Vec::new(),
-            haa: Vec::new(),
-            hra: Vec::new(),
-        };
-        for (fa, fr, haa, hra) in rows {
-            e.fa.extend(fa);
-            e.fr.extend(fr);
-            e.haa.extend(haa);
-            e.hra.extend(hra);
-        }
-        e
+        let table = GridTable::concat(na, nr, rows);
+        Evaluator { sm, scenarios, windows, n_fixed, na, grid, table }
     }
 
     /// Largest response and strokes at grid point `i` with `links` (already scaled to the nominal
     /// structure), per newton of the reference force, not yet divided by s².
     fn at_grid(&self, i: usize, links: &[AbsorberLink], stroke: &mut [f64]) -> f64 {
-        let (na, nr) = (self.na, self.nr);
+        let na = self.na;
         let omega = 2.0 * std::f64::consts::PI * self.grid[i];
         let zero = Complex64::new(0.0, 0.0);
         // Stack buffers for the usual handful of absorbers.
@@ -183,28 +142,11 @@ impl<'a> Evaluator<'a> {
             sv.resize(na, zero);
             (&mut gv[..], &mut sv[..])
         };
-        if na > 0 {
-            absorber_forces(
-                omega,
-                &self.haa[i * na * na..(i + 1) * na * na],
-                &self.fa[i * na..(i + 1) * na],
-                links,
-                g,
-                s,
-            );
-        }
+        self.table.forces(i, omega, links, g, s);
         for (o, v) in stroke.iter_mut().zip(s.iter()) {
             *o = v.norm();
         }
-        let mut best: f64 = 0.0;
-        for r in 0..nr {
-            let mut x = self.fr[i * nr + r];
-            for a in 0..na {
-                x += self.hra[(i * nr + r) * na + a] * g[a];
-            }
-            best = best.max(x.norm());
-        }
-        best / self.sm.reference_force
+        self.table.largest_response(i, g) / self.sm.reference_force
     }
 
     /// Window peaks and strokes in scenario `sc` with `links` (model's own first). With

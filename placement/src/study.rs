@@ -97,6 +97,56 @@ pub struct GridTable {
     hra: Vec<Complex64>,
 }
 
+impl GridTable {
+    /// Rows of single frequencies, in order, as one table.
+    pub(crate) fn concat(na: usize, nr: usize, rows: Vec<GridTable>) -> GridTable {
+        let mut t = GridTable { na, nr, fa: Vec::new(), fr: Vec::new(), haa: Vec::new(), hra: Vec::new() };
+        for row in rows {
+            t.fa.extend(row.fa);
+            t.fr.extend(row.fr);
+            t.haa.extend(row.haa);
+            t.hra.extend(row.hra);
+        }
+        t
+    }
+
+    /// Absorber forces `g` and strokes `s` at grid point `i` with `links` at ω (rad/s).
+    pub(crate) fn forces(
+        &self,
+        i: usize,
+        omega: f64,
+        links: &[AbsorberLink],
+        g: &mut [Complex64],
+        s: &mut [Complex64],
+    ) {
+        let na = self.na;
+        if na > 0 {
+            absorber_forces(
+                omega,
+                &self.haa[i * na * na..(i + 1) * na * na],
+                &self.fa[i * na..(i + 1) * na],
+                links,
+                g,
+                s,
+            );
+        }
+    }
+
+    /// Largest response over the points at grid point `i` under absorber forces `g`, in m.
+    pub(crate) fn largest_response(&self, i: usize, g: &[Complex64]) -> f64 {
+        let (na, nr) = (self.na, self.nr);
+        let mut best: f64 = 0.0;
+        for r in 0..nr {
+            let mut x = self.fr[i * nr + r];
+            for a in 0..na {
+                x += self.hra[(i * nr + r) * na + a] * g[a];
+            }
+            best = best.max(x.norm());
+        }
+        best
+    }
+}
+
 /// The modal result against the direct sparse solve at one frequency.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct VerifyPoint {
@@ -452,68 +502,45 @@ impl StudyModel {
 
     /// The receptance table of the attachment coordinates `coords` on the grid.
     pub fn table(&self, coords: &[usize]) -> GridTable {
+        // One row per grid frequency, concatenated in grid order.
+        let rows: Vec<GridTable> =
+            (0..self.grid_hz.len()).into_par_iter().map(|i| self.table_row(&self.grid_factors[i], coords)).collect();
+        GridTable::concat(coords.len(), self.responses.len(), rows)
+    }
+
+    /// The receptance table of `coords` at one frequency, given its modal factors
+    /// ([`ModalModel::modal_factors`]).
+    pub(crate) fn table_row(&self, f: &[Complex64], coords: &[usize]) -> GridTable {
         let (na, nr) = (coords.len(), self.responses.len());
-        // One table per grid frequency, concatenated in grid order.
-        let per: Vec<GridTable> = (0..self.grid_hz.len())
-            .into_par_iter()
-            .map(|i| {
-                let f = &self.grid_factors[i];
-                let forced = |c: usize| -> Complex64 {
-                    self.loads.iter().map(|l| self.model.receptance_with(f, c, l.coord) * l.amplitude).sum()
-                };
-                let fa = coords.iter().map(|&c| forced(c)).collect();
-                let fr = self.responses.iter().map(|&r| forced(r)).collect();
-                let haa = coords
-                    .iter()
-                    .flat_map(|&a| coords.iter().map(move |&b| (a, b)))
-                    .map(|(a, b)| self.model.receptance_with(f, a, b))
-                    .collect();
-                let hra = self
-                    .responses
-                    .iter()
-                    .flat_map(|&r| coords.iter().map(move |&a| (r, a)))
-                    .map(|(r, a)| self.model.receptance_with(f, r, a))
-                    .collect();
-                GridTable { na, nr, fa, fr, haa, hra }
-            })
+        let forced = |c: usize| -> Complex64 {
+            self.loads.iter().map(|l| self.model.receptance_with(f, c, l.coord) * l.amplitude).sum()
+        };
+        let fa = coords.iter().map(|&c| forced(c)).collect();
+        let fr = self.responses.iter().map(|&r| forced(r)).collect();
+        let haa = coords
+            .iter()
+            .flat_map(|&a| coords.iter().map(move |&b| (a, b)))
+            .map(|(a, b)| self.model.receptance_with(f, a, b))
             .collect();
-        let mut t = GridTable { na, nr, fa: Vec::new(), fr: Vec::new(), haa: Vec::new(), hra: Vec::new() };
-        for row in per {
-            t.fa.extend(row.fa);
-            t.fr.extend(row.fr);
-            t.haa.extend(row.haa);
-            t.hra.extend(row.hra);
-        }
-        t
+        let hra = self
+            .responses
+            .iter()
+            .flat_map(|&r| coords.iter().map(move |&a| (r, a)))
+            .map(|(r, a)| self.model.receptance_with(f, r, a))
+            .collect();
+        GridTable { na, nr, fa, fr, haa, hra }
     }
 
     /// Largest response over the points at grid frequency `i`, per newton, with `links` at the
     /// table's coordinates (in the same order).
     pub fn table_response(&self, t: &GridTable, i: usize, links: &[AbsorberLink]) -> f64 {
-        let (na, nr) = (t.na, t.nr);
+        let na = t.na;
         let omega = 2.0 * std::f64::consts::PI * self.grid_hz[i];
         let zero = Complex64::new(0.0, 0.0);
         let mut g = vec![zero; na];
         let mut s = vec![zero; na];
-        if na > 0 {
-            absorber_forces(
-                omega,
-                &t.haa[i * na * na..(i + 1) * na * na],
-                &t.fa[i * na..(i + 1) * na],
-                links,
-                &mut g,
-                &mut s,
-            );
-        }
-        let mut best: f64 = 0.0;
-        for r in 0..nr {
-            let mut x = t.fr[i * nr + r];
-            for a in 0..na {
-                x += t.hra[(i * nr + r) * na + a] * g[a];
-            }
-            best = best.max(x.norm());
-        }
-        best / self.reference_force
+        t.forces(i, omega, links, &mut g, &mut s);
+        t.largest_response(i, &g) / self.reference_force
     }
 
     /// Fast estimate of the highest peak in [lo, hi] Hz with `absorbers`: grid values, with the two
