@@ -9,45 +9,19 @@
 //! median and the minimum. Run from the workspace root:
 //! `cargo bench -p antinode --bench mesh_import`. Figures: `docs/benchmarks.md`.
 
-use std::error::Error;
-use std::time::{Duration, Instant};
+use std::time::Duration;
 
 use antinode::mesh::{MeshFormat, export_mesh, load_model, parse_model, validate, validate_in};
 
-type Res<T> = Result<T, Box<dyn Error>>;
+mod common;
+use common::{Res, ms, repeat, reps};
 
 /// Quadrilaterals along each side of the panel.
 const DIVISIONS: usize = 316;
 
-fn reps() -> usize {
-    std::env::var("ANTINODE_BENCH_REPS")
-        .ok()
-        .and_then(|s| s.trim().parse::<usize>().ok())
-        .filter(|&n| n > 0)
-        .unwrap_or(5)
-}
-
-/// Median and minimum of `n` runs of `f`, and its last result.
-fn repeat<T>(n: usize, mut f: impl FnMut() -> Res<T>) -> Res<(Duration, Duration, T)> {
-    let mut samples = Vec::with_capacity(n);
-    let mut last = None;
-    for _ in 0..n {
-        let t = Instant::now();
-        last = Some(f()?);
-        samples.push(t.elapsed());
-    }
-    samples.sort();
-    let median = if n % 2 == 1 { samples[n / 2] } else { (samples[n / 2 - 1] + samples[n / 2]) / 2 };
-    Ok((median, samples[0], last.ok_or("no repetition ran")?))
-}
-
-fn ms(d: Duration) -> String {
-    format!("{:.1}", d.as_secs_f64() * 1e3)
-}
-
 fn main() -> Res<()> {
     antinode::solver::init();
-    let n = reps();
+    let n = reps(5);
     let text = format!(
         r#"{{"title": "benchmark panel",
             "materials": {{"al": {{"youngs_modulus": 7e10, "poisson_ratio": 0.33, "density": 2700}}}},

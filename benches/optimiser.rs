@@ -17,9 +17,6 @@
 //! Each measurement is repeated N times (`ANTINODE_BENCH_REPS`, default 3): median and minimum.
 //! Run: `cargo bench -p antinode --bench optimiser`. Figures: `docs/benchmarks.md`.
 
-use std::error::Error;
-use std::time::{Duration, Instant};
-
 use antinode::mesh::{Structure, parse_model, validate};
 use antinode::placement::screening::screen;
 use antinode::placement::{StudyModel, design};
@@ -28,32 +25,8 @@ use antinode::solver::{
 };
 use serde_json::json;
 
-type Res<T> = Result<T, Box<dyn Error>>;
-
-fn reps() -> usize {
-    std::env::var("ANTINODE_BENCH_REPS")
-        .ok()
-        .and_then(|s| s.trim().parse::<usize>().ok())
-        .filter(|&n| n > 0)
-        .unwrap_or(3)
-}
-
-/// Median and minimum of `n` timings of `f`, and its last result.
-fn repeat<T>(n: usize, mut f: impl FnMut() -> Res<T>) -> Res<(Duration, Duration, T)> {
-    let mut times = Vec::new();
-    let mut last = None;
-    for _ in 0..n {
-        let t = Instant::now();
-        last = Some(f()?);
-        times.push(t.elapsed());
-    }
-    times.sort();
-    Ok((times[times.len() / 2], times[0], last.ok_or("no repetition")?))
-}
-
-fn ms(d: Duration) -> String {
-    format!("{:.1}", d.as_secs_f64() * 1e3)
-}
+mod common;
+use common::{Res, ms, repeat, reps};
 
 fn shaft(elements: usize, count: usize, uncertainty: bool, from: f64, to: f64) -> Res<Structure> {
     let at = |f: f64| json!({"line": "shaft", "at": f});
@@ -167,7 +140,7 @@ fn robust(n: usize) -> Res<()> {
 }
 
 fn main() -> Res<()> {
-    let n = reps();
+    let n = reps(3);
     println!("threads: {}, repetitions: {n}\n", rayon::current_num_threads());
     match std::env::var("ANTINODE_BENCH_ONLY").as_deref() {
         Ok("screening") => screening(n),
