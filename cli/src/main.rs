@@ -14,7 +14,7 @@ mod respond;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use clap::{Args, Parser, Subcommand};
+use clap::{Args, Parser, Subcommand, ValueEnum};
 
 /// Finite-element modal solver that decides where to attach tuned vibration absorbers and how to
 /// tune them. Model files are JSON in SI units (see docs/model-format.md).
@@ -193,6 +193,18 @@ struct RespondArgs {
     /// besides the natural frequencies and peaks (default 24).
     #[arg(long, requires = "verify", value_parser = clap::value_parser!(u32).range(2..=10000))]
     verify_count: Option<u32>,
+    /// What the curves, peaks and speed sweeps report: displacement (receptance, m/N), velocity
+    /// (mobility) or acceleration (accelerance).
+    #[arg(long, value_enum, default_value = "receptance")]
+    quantity: QuantityArg,
+}
+
+/// Response quantity of `respond`.
+#[derive(Clone, Copy, ValueEnum)]
+enum QuantityArg {
+    Receptance,
+    Mobility,
+    Accelerance,
 }
 
 #[derive(Args)]
@@ -246,6 +258,11 @@ fn main() -> ExitCode {
             json: a.common.json,
             out: a.out,
             verify: a.verify.then(|| a.verify_count.unwrap_or(24) as usize),
+            quantity: match a.quantity {
+                QuantityArg::Receptance => antinode_placement::Quantity::Receptance,
+                QuantityArg::Mobility => antinode_placement::Quantity::Mobility,
+                QuantityArg::Accelerance => antinode_placement::Quantity::Accelerance,
+            },
         }),
         Command::Design(a) => design::run(&a.common.model, a.common.json, a.out),
         Command::Init(a) => init::run(a.kind, a.out),

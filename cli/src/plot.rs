@@ -24,6 +24,18 @@ const COLOURS: [RGBColor; 6] = [
 
 /// A magnitude-versus-frequency plot with a logarithmic magnitude axis, as SVG text.
 pub fn frf_svg(title: &str, y_label: &str, series: &[Series<'_>], markers_hz: &[f64]) -> Result<String> {
+    curve_svg(title, "frequency [Hz]", y_label, series, markers_hz)
+}
+
+/// Magnitude curves against `x_label` (frequency or speed) with a logarithmic magnitude axis and
+/// faint vertical markers, as SVG text.
+pub fn curve_svg(
+    title: &str,
+    x_label: &str,
+    y_label: &str,
+    series: &[Series<'_>],
+    markers_hz: &[f64],
+) -> Result<String> {
     let all: Vec<(f64, f64)> = series.iter().flat_map(|s| s.points.iter().copied()).filter(|p| p.1 > 0.0).collect();
     if all.is_empty() {
         return Err(anyhow!("nothing to plot"));
@@ -45,7 +57,7 @@ pub fn frf_svg(title: &str, y_label: &str, series: &[Series<'_>], markers_hz: &[
             .map_err(|e| anyhow!("{e}"))?;
         chart
             .configure_mesh()
-            .x_desc("frequency [Hz]")
+            .x_desc(x_label)
             .y_desc(y_label)
             .y_label_formatter(&|v| format!("{v:.1e}"))
             .draw()
@@ -261,6 +273,76 @@ pub fn xy_svg(title: &str, x_label: &str, y_label: &str, series: &[Series<'_>]) 
         chart
             .configure_series_labels()
             .position(SeriesLabelPosition::LowerRight)
+            .background_style(WHITE.mix(0.9))
+            .border_style(BLACK)
+            .draw()
+            .map_err(|e| anyhow!("{e}"))?;
+        root.present().map_err(|e| anyhow!("{e}"))?;
+    }
+    Ok(svg)
+}
+
+/// The interference chart of a rotating part: natural frequencies as horizontal lines against
+/// speed, each order as a ray f = k·n/60 from the origin, the operating range shaded and the
+/// crossings inside it marked; as SVG text. `modes` are (number, frequency in Hz), `orders` (name,
+/// k), `crossings` (rpm, Hz).
+pub fn interference_svg(
+    title: &str,
+    rpm_range: [f64; 2],
+    modes: &[(usize, f64)],
+    orders: &[(String, f64)],
+    crossings: &[(f64, f64)],
+) -> Result<String> {
+    let x1 = rpm_range[1] * 1.15;
+    let k_max = orders.iter().map(|o| o.1).fold(0.0, f64::max);
+    let y1 = k_max * x1 / 60.0 * 1.05;
+    if !(x1 > 0.0 && y1 > 0.0) {
+        return Err(anyhow!("nothing to plot"));
+    }
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (960, 560)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| anyhow!("{e}"))?;
+        let mut chart = ChartBuilder::on(&root)
+            .caption(title, ("sans-serif", 18))
+            .margin(14)
+            .x_label_area_size(44)
+            .y_label_area_size(70)
+            .build_cartesian_2d(0.0..x1, 0.0..y1)
+            .map_err(|e| anyhow!("{e}"))?;
+        chart.configure_mesh().x_desc("speed [rev/min]").y_desc("frequency [Hz]").draw().map_err(|e| anyhow!("{e}"))?;
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(rpm_range[0], 0.0), (rpm_range[1], y1)],
+                BLACK.mix(0.06).filled(),
+            )))
+            .map_err(|e| anyhow!("{e}"))?;
+        for &(number, f) in modes.iter().filter(|m| m.1 <= y1) {
+            chart
+                .draw_series(LineSeries::new([(0.0, f), (x1, f)], ShapeStyle::from(&BLACK.mix(0.45)).stroke_width(1)))
+                .map_err(|e| anyhow!("{e}"))?;
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    format!("mode {number}"),
+                    (x1 * 0.005, f),
+                    ("sans-serif", 11).into_font().color(&BLACK.mix(0.7)),
+                )))
+                .map_err(|e| anyhow!("{e}"))?;
+        }
+        for (i, (name, k)) in orders.iter().enumerate() {
+            let style = ShapeStyle::from(&COLOURS[i % COLOURS.len()]).stroke_width(2);
+            chart
+                .draw_series(LineSeries::new([(0.0, 0.0), (x1, k * x1 / 60.0)], style))
+                .map_err(|e| anyhow!("{e}"))?
+                .label(name.clone())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], style));
+        }
+        chart
+            .draw_series(crossings.iter().map(|&p| Circle::new(p, 5, ShapeStyle::from(&RED).stroke_width(2))))
+            .map_err(|e| anyhow!("{e}"))?;
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::UpperLeft)
             .background_style(WHITE.mix(0.9))
             .border_style(BLACK)
             .draw()

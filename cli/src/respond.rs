@@ -3,20 +3,22 @@
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
-use antinode_placement::{Curves, StudyModel, VerifyPoint};
-use antinode_solver::{AbsorberLink, refined_peaks};
+use antinode_placement::{Crossing, Curves, OrderResponse, Quantity, SpeedPeak, StudyModel, VerifyPoint, crossings};
+use antinode_solver::{AbsorberLink, InsightOptions, ModalSolution, ModeKind, System, mode_insight, refined_peaks};
 use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::output::{print_json, table};
 use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
-use crate::plot::{Series, frf_svg};
+use crate::plot::{Series, curve_svg, frf_svg, interference_svg};
 
 #[derive(Serialize)]
 pub struct PeakOut {
     pub frequency_hz: f64,
     /// Largest displacement over the response points per newton, in m/N.
     pub receptance: f64,
+    /// The same in the quantity asked for (`--quantity`; equal to `receptance` by default).
+    pub value: f64,
     pub point: String,
 }
 
@@ -37,7 +39,77 @@ pub struct Options {
     pub out: Option<PathBuf>,
     /// Direct check with this many band frequencies (besides natural frequencies and peaks).
     pub verify: Option<usize>,
+    /// What the curves, peaks and speed sweeps report.
+    pub quantity: Quantity,
 }
+
+#[derive(Clone, Serialize)]
+struct OrderOut {
+    name: String,
+    order: f64,
+    /// Highest response over the speed range without absorbers (`value` in the quantity asked
+    /// for, `displacement_m` in m).
+    peak_before: SpeedPeakOut,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    peak_after: Option<SpeedPeakOut>,
+    /// With absorbers: each absorber's largest stroke (m) and spring force (N) over the range.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    absorbers: Vec<OrderAbsorberOut>,
+}
+
+#[derive(Clone, Serialize)]
+struct SpeedPeakOut {
+    rpm: f64,
+    frequency_hz: f64,
+    value: f64,
+    displacement_m: f64,
+    point: String,
+}
+
+#[derive(Clone, Serialize)]
+struct OrderAbsorberOut {
+    name: String,
+    max_stroke_m: f64,
+    max_spring_force_n: f64,
+}
+
+#[derive(Clone, Serialize)]
+struct CriticalSpeed {
+    /// Mode number of the lowest bending mode (without absorbers).
+    mode: usize,
+    frequency_hz: f64,
+    /// Speed at which once-per-revolution excitation meets it, 60 f, in rev/min.
+    critical_rpm: f64,
+    max_rpm: f64,
+    /// (critical_rpm − max_rpm) / max_rpm: positive when the part runs below the critical speed.
+    margin: f64,
+    /// Whether the critical speed lies inside the operating range.
+    inside_range: bool,
+    /// Lowest margin this report accepts without a warning (common practice; the applicable code
+    /// decides).
+    warning_below: f64,
+    note: String,
+}
+
+#[derive(Clone, Serialize)]
+struct SpeedOut {
+    rpm_range: [f64; 2],
+    /// Quantity of `value` fields and of speed.csv.
+    quantity: Quantity,
+    speeds_evaluated: usize,
+    orders: Vec<OrderOut>,
+    /// Natural frequencies met by an order inside the range (modes without absorbers).
+    crossings: Vec<Crossing>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    critical_speed: Option<CriticalSpeed>,
+    /// Why there is no critical-speed margin, when there is none.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    critical_speed_note: Option<String>,
+}
+
+/// Lowest critical-speed margin reported without a warning: 20 % separation (common practice for
+/// shafts; codes set their own).
+const MARGIN_WARNING: f64 = 0.2;
 
 #[derive(Serialize)]
 struct VerifyCase {
@@ -99,6 +171,11 @@ struct RespondReport {
     /// With study.random: RMS responses over the band.
     #[serde(skip_serializing_if = "Option::is_none")]
     random: Option<RandomOut>,
+    /// Quantity of the curves, peak tables and `value` fields.
+    quantity: Quantity,
+    /// With study.orders: the response versus speed, crossings and critical-speed margin.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    speed: Option<SpeedOut>,
 }
 
 /// Check frequencies: `n` geometric steps over the band, the natural frequencies in it and the
@@ -125,29 +202,51 @@ fn verify_case(with_absorbers: bool, points: Vec<VerifyPoint>) -> VerifyCase {
     }
 }
 
-/// Peaks of the largest response over the points, refined between grid neighbours.
-pub fn peaks(sm: &StudyModel, curves: &Curves, links: &[AbsorberLink]) -> Vec<PeakOut> {
+/// Peaks of the largest response over the points in quantity `q` (`curves` already in it),
+/// refined between grid neighbours.
+fn peaks(sm: &StudyModel, curves: &Curves, links: &[AbsorberLink], q: Quantity) -> Vec<PeakOut> {
     let vals: Vec<f64> = (0..curves.frequency_hz.len())
         .map(|i| curves.response.iter().map(|r| r[i].norm()).fold(0.0, f64::max))
         .collect();
-    refined_peaks(&curves.frequency_hz, &vals, |f| sm.response_at(f, links).0)
+    refined_peaks(&curves.frequency_hz, &vals, |f| sm.response_at(f, links).0 * q.scale_at(f))
         .into_iter()
-        .map(|(f, v)| PeakOut {
-            frequency_hz: f,
-            receptance: v,
-            point: sm.response_names[sm.response_at(f, links).1].clone(),
+        .map(|(f, v)| {
+            let (receptance, point) = sm.response_at(f, links);
+            PeakOut { frequency_hz: f, receptance, value: v, point: sm.response_names[point].clone() }
         })
         .collect()
+}
+
+/// `c` with the response points' curves turned into quantity `q` (strokes and forces unchanged).
+fn in_quantity(mut c: Curves, q: Quantity) -> Curves {
+    for r in &mut c.response {
+        for (x, &f) in r.iter_mut().zip(&c.frequency_hz) {
+            *x *= q.factor(2.0 * std::f64::consts::PI * f);
+        }
+    }
+    c
 }
 
 /// CSV of curves: frequency, then magnitude and phase per response point (before, after), then the
 /// absorbers' stroke and force magnitudes (after).
 pub fn curves_csv(sm: &StudyModel, before: &Curves, after: Option<&Curves>, absorber_names: &[String]) -> String {
+    curves_csv_in(sm, before, after, absorber_names, Quantity::Receptance)
+}
+
+/// [`curves_csv`] with the response columns in quantity `q` (the curves already converted).
+fn curves_csv_in(
+    sm: &StudyModel,
+    before: &Curves,
+    after: Option<&Curves>,
+    absorber_names: &[String],
+    q: Quantity,
+) -> String {
+    let u = q.unit_per_newton();
     let mut s = String::from("frequency_hz");
     for n in &sm.response_names {
-        let _ = write!(s, ",{n} before [m/N],{n} before phase [deg]");
+        let _ = write!(s, ",{n} before [{u}],{n} before phase [deg]");
         if after.is_some() {
-            let _ = write!(s, ",{n} after [m/N],{n} after phase [deg]");
+            let _ = write!(s, ",{n} after [{u}],{n} after phase [deg]");
         }
     }
     for n in absorber_names {
@@ -177,6 +276,210 @@ pub fn curves_csv(sm: &StudyModel, before: &Curves, after: Option<&Curves>, abso
 /// Points (f, |x|) of each response point's curve.
 pub fn magnitude_points(c: &Curves) -> Vec<Vec<(f64, f64)>> {
     c.response.iter().map(|r| c.frequency_hz.iter().zip(r).map(|(&f, x)| (f, x.norm())).collect()).collect()
+}
+
+/// The speed sweep's files and report.
+struct SpeedFiles {
+    report: SpeedOut,
+    csv: String,
+    response_svg: String,
+    interference_svg: String,
+}
+
+/// The lowest bending mode against the top speed (once-per-revolution excitation, no gyroscopic
+/// stiffening or speed-dependent bearings: the non-rotating estimate).
+fn critical_speed(
+    l: &crate::pipeline::Loaded,
+    system: &System,
+    modes: &ModalSolution,
+    rpm_range: [f64; 2],
+) -> Result<std::result::Result<CriticalSpeed, String>> {
+    let mut oriented = modes.clone();
+    let insight = mode_insight(&l.structure, system, &mut oriented, &InsightOptions::default())?;
+    let Some(r) = insight.modes.iter().position(|m| m.class.kind == ModeKind::Bending) else {
+        return Ok(Err("no critical-speed margin: no kept mode is classified as bending".into()));
+    };
+    let f = oriented.frequency_hz(r);
+    let critical_rpm = 60.0 * f;
+    let max_rpm = rpm_range[1];
+    let margin = (critical_rpm - max_rpm) / max_rpm;
+    let inside_range = critical_rpm >= rpm_range[0] && critical_rpm <= max_rpm;
+    let note = if inside_range {
+        format!(
+            "the operating range {}-{} rpm passes through the first bending critical speed {critical_rpm:.0} rpm \
+             (mode {}, {f:.2} Hz): running there can make the shaft whirl with large amplitude",
+            rpm_range[0],
+            max_rpm,
+            r + 1
+        )
+    } else if margin < 0.0 {
+        format!(
+            "the part runs above its first bending critical speed {critical_rpm:.0} rpm (mode {}, {f:.2} Hz): it \
+             must pass through it on every run-up and run-down",
+            r + 1
+        )
+    } else if margin < MARGIN_WARNING {
+        format!(
+            "the first bending critical speed {critical_rpm:.0} rpm (mode {}, {f:.2} Hz) is only {:.1} % above the \
+             top speed; a separation of at least {:.0} % is common practice",
+            r + 1,
+            100.0 * margin,
+            100.0 * MARGIN_WARNING
+        )
+    } else {
+        format!(
+            "the first bending critical speed {critical_rpm:.0} rpm (mode {}, {f:.2} Hz) is {:.1} % above the top speed",
+            r + 1,
+            100.0 * margin
+        )
+    };
+    Ok(Ok(CriticalSpeed {
+        mode: r + 1,
+        frequency_hz: f,
+        critical_rpm,
+        max_rpm,
+        margin,
+        inside_range,
+        warning_below: MARGIN_WARNING,
+        note: format!(
+            "{note}. Estimate from the non-rotating model: gyroscopic effects and speed-dependent bearings are not \
+             included."
+        ),
+    }))
+}
+
+/// Response versus speed for every order, before and after the model's absorbers; crossings;
+/// critical-speed margin; the CSV and the two plots.
+fn speed_section(
+    l: &crate::pipeline::Loaded,
+    system: &System,
+    modes: &ModalSolution,
+    sm: &StudyModel,
+    q: Quantity,
+) -> Result<Option<SpeedFiles>> {
+    let Some(range) = sm.rpm_range else { return Ok(None) };
+    let rpm = sm.speed_grid();
+    let before = sm.sweep(&rpm, &[], q);
+    let has_absorbers = !sm.existing.is_empty();
+    let after = has_absorbers.then(|| sm.sweep(&rpm, &sm.existing, q));
+    let specs: Vec<_> = sm.orders.iter().map(|(_, o)| o.clone()).collect();
+    let cross = crossings(&specs, &sm.natural_hz, sm.n_zero_energy, range);
+    let (critical, note) = match critical_speed(l, system, modes, range)? {
+        Ok(c) => (Some(c), None),
+        Err(n) => (None, Some(n)),
+    };
+    let names: Vec<String> = l.structure.absorbers.iter().map(|a| a.name.clone()).collect();
+    let peak_out = |p: &SpeedPeak| SpeedPeakOut {
+        rpm: p.rpm,
+        frequency_hz: p.frequency_hz,
+        value: p.value,
+        displacement_m: p.displacement_m,
+        point: sm.response_names[p.point].clone(),
+    };
+    let orders = before
+        .iter()
+        .enumerate()
+        .map(|(k, b)| {
+            let a = after.as_ref().map(|a| &a[k]);
+            OrderOut {
+                name: b.name.clone(),
+                order: b.order,
+                peak_before: peak_out(&b.peak),
+                peak_after: a.map(|a| peak_out(&a.peak)),
+                absorbers: a
+                    .map(|a| {
+                        names
+                            .iter()
+                            .enumerate()
+                            .map(|(i, n)| OrderAbsorberOut {
+                                name: n.clone(),
+                                max_stroke_m: a.stroke[i].iter().map(|z| z.norm()).fold(0.0, f64::max),
+                                max_spring_force_n: a.spring_force[i].iter().map(|z| z.norm()).fold(0.0, f64::max),
+                            })
+                            .collect()
+                    })
+                    .unwrap_or_default(),
+            }
+        })
+        .collect();
+    // speed.csv: rpm, then per order its frequency and per point magnitude (before, after), then
+    // per absorber stroke and force (after).
+    let unit = q.motion_unit();
+    let mut csv = String::from("rpm");
+    for b in &before {
+        let _ = write!(csv, ",{} frequency [Hz]", b.name);
+        for p in &sm.response_names {
+            let _ = write!(csv, ",{} {p} before [{unit}]", b.name);
+            if has_absorbers {
+                let _ = write!(csv, ",{} {p} after [{unit}]", b.name);
+            }
+        }
+        if has_absorbers {
+            for n in &names {
+                let _ = write!(csv, ",{} {n} stroke [m],{} {n} force [N]", b.name, b.name);
+            }
+        }
+    }
+    csv.push('\n');
+    for (i, &n) in rpm.iter().enumerate() {
+        let _ = write!(csv, "{n:.6e}");
+        for (k, b) in before.iter().enumerate() {
+            let _ = write!(csv, ",{:.6e}", sm.orders[k].1.frequency_hz(n));
+            for p in 0..sm.responses.len() {
+                let _ = write!(csv, ",{:.9e}", b.response[p][i].norm());
+                if let Some(a) = &after {
+                    let _ = write!(csv, ",{:.9e}", a[k].response[p][i].norm());
+                }
+            }
+            if let Some(a) = &after {
+                for j in 0..names.len() {
+                    let _ = write!(csv, ",{:.9e},{:.9e}", a[k].stroke[j][i].norm(), a[k].spring_force[j][i].norm());
+                }
+            }
+        }
+        csv.push('\n');
+    }
+    // Response versus speed: the largest over the points, one curve per order and case.
+    let largest = |r: &OrderResponse| -> Vec<(f64, f64)> {
+        (0..rpm.len()).map(|i| (rpm[i], r.response.iter().map(|x| x[i].norm()).fold(0.0, f64::max))).collect()
+    };
+    let pb: Vec<Vec<(f64, f64)>> = before.iter().map(largest).collect();
+    let pa: Option<Vec<Vec<(f64, f64)>>> = after.as_ref().map(|a| a.iter().map(largest).collect());
+    let mut series = Vec::new();
+    for (k, b) in before.iter().enumerate() {
+        series.push(Series { label: format!("{}, without absorbers", b.name), points: &pb[k], dashed: true });
+        if let Some(pa) = &pa {
+            series.push(Series { label: format!("{}, with absorbers", b.name), points: &pa[k], dashed: false });
+        }
+    }
+    let markers: Vec<f64> = cross.iter().map(|c| c.rpm).collect();
+    let response_svg = curve_svg(
+        &format!("Response versus speed: {}", l.structure.title),
+        "speed [rev/min]",
+        &format!("largest {} over the response points [{unit}]", q.motion()),
+        &series,
+        &markers,
+    )?;
+    let mode_lines: Vec<(usize, f64)> =
+        (sm.n_zero_energy..sm.natural_hz.len()).map(|r| (r + 1, sm.natural_hz[r])).collect();
+    let rays: Vec<(String, f64)> = specs.iter().map(|o| (o.name.clone(), o.order)).collect();
+    let points: Vec<(f64, f64)> = cross.iter().map(|c| (c.rpm, c.frequency_hz)).collect();
+    let interference_svg =
+        interference_svg(&format!("Interference chart: {}", l.structure.title), range, &mode_lines, &rays, &points)?;
+    Ok(Some(SpeedFiles {
+        report: SpeedOut {
+            rpm_range: range,
+            quantity: q,
+            speeds_evaluated: rpm.len(),
+            orders,
+            crossings: cross,
+            critical_speed: critical,
+            critical_speed_note: note,
+        },
+        csv,
+        response_svg,
+        interference_svg,
+    }))
 }
 
 pub fn run(o: &Options) -> Result<()> {
@@ -213,9 +516,10 @@ pub fn run(o: &Options) -> Result<()> {
         sm.temperature_c = study.temperatures_c.first().copied();
     }
     let sm = sm;
-    let before = sm.curves(&sm.grid_hz, &[]);
+    let q = o.quantity;
+    let before = in_quantity(sm.curves(&sm.grid_hz, &[]), q);
     let has_absorbers = !sm.existing.is_empty();
-    let after = has_absorbers.then(|| sm.curves(&sm.grid_hz, &sm.existing));
+    let after = has_absorbers.then(|| in_quantity(sm.curves(&sm.grid_hz, &sm.existing), q));
     let names: Vec<String> = l.structure.absorbers.iter().map(|a| a.name.clone()).collect();
     let mut outputs = Outputs::create(path, out.as_deref())?;
     let csv_path = outputs.path("response.csv");
@@ -232,10 +536,25 @@ pub fn run(o: &Options) -> Result<()> {
     }
     let markers: Vec<f64> =
         sm.natural_hz.iter().copied().filter(|&f| f >= study.band_hz[0] && f <= study.band_hz[1]).collect();
-    let svg =
-        frf_svg(&format!("Receptance: {}", l.structure.title), "displacement per newton [m/N]", &series, &markers)?;
-    let peaks_before = peaks(&sm, &before, &[]);
-    let peaks_after = after.as_ref().map(|a| peaks(&sm, a, &sm.existing)).unwrap_or_default();
+    let word = q.word();
+    let svg = frf_svg(
+        &format!("{}{}: {}", word[..1].to_uppercase(), &word[1..], l.structure.title),
+        &format!("{} per newton [{}]", q.motion(), q.unit_per_newton()),
+        &series,
+        &markers,
+    )?;
+    let peaks_before = peaks(&sm, &before, &[], q);
+    let peaks_after = after.as_ref().map(|a| peaks(&sm, a, &sm.existing, q)).unwrap_or_default();
+    let speed = if sm.orders.is_empty() {
+        None
+    } else {
+        progress.stage("orders over the speed range");
+        speed_section(&l, &system, &modes, &sm, q)?
+    };
+    let mut files = vec![csv_path.clone(), svg_path.clone(), json_path.clone()];
+    if speed.is_some() {
+        files.extend(["speed.csv", "speed.svg", "interference.svg"].iter().map(|n| outputs.path(n)));
+    }
     let verification = match o.verify {
         None => None,
         Some(n) => {
@@ -279,15 +598,22 @@ pub fn run(o: &Options) -> Result<()> {
                     .collect()
             })
             .unwrap_or_default(),
-        files: [&csv_path, &svg_path, &json_path].iter().map(|p| p.display().to_string()).collect(),
+        files: files.iter().map(|p| p.display().to_string()).collect(),
         verification,
         temperature_cases,
         random: (!sm.random.is_empty()).then(|| RandomOut {
             rms_before_m: sm.random_rms(&[]),
             rms_after_m: has_absorbers.then(|| sm.random_rms(&sm.existing)),
         }),
+        quantity: q,
+        speed: speed.as_ref().map(|s| s.report.clone()),
     };
-    outputs.write("response.csv", curves_csv(&sm, &before, after.as_ref(), &names).as_bytes())?;
+    outputs.write("response.csv", curves_csv_in(&sm, &before, after.as_ref(), &names, q).as_bytes())?;
+    if let Some(sp) = &speed {
+        outputs.write("speed.csv", sp.csv.as_bytes())?;
+        outputs.write("speed.svg", sp.response_svg.as_bytes())?;
+        outputs.write("interference.svg", sp.interference_svg.as_bytes())?;
+    }
     outputs.write("frf.svg", svg.as_bytes())?;
     outputs.write("response.json", serde_json::to_string_pretty(&report)?.as_bytes())?;
     outputs.commit()?;
@@ -300,15 +626,14 @@ pub fn run(o: &Options) -> Result<()> {
         report.model, study.band_hz[0], study.band_hz[1], report.modes_kept, study.max_mode_frequency_hz
     );
     let rows = |p: &[PeakOut]| -> Vec<Vec<String>> {
-        p.iter()
-            .map(|k| vec![format!("{:.4}", k.frequency_hz), format!("{:.4e}", k.receptance), k.point.clone()])
-            .collect()
+        p.iter().map(|k| vec![format!("{:.4}", k.frequency_hz), format!("{:.4e}", k.value), k.point.clone()]).collect()
     };
+    let value_head = format!("{word} [{}]", q.unit_per_newton());
     println!("peaks without absorbers (per newton of excitation):");
-    println!("{}", table(&["frequency [Hz]", "receptance [m/N]", "point"], rows(&report.peaks_before)));
+    println!("{}", table(&["frequency [Hz]", &value_head, "point"], rows(&report.peaks_before)));
     if has_absorbers {
         println!("peaks with the model's {} absorber(s):", names.len());
-        println!("{}", table(&["frequency [Hz]", "receptance [m/N]", "point"], rows(&report.peaks_after)));
+        println!("{}", table(&["frequency [Hz]", &value_head, "point"], rows(&report.peaks_after)));
         let arows = report
             .absorbers
             .iter()
@@ -386,7 +711,72 @@ pub fn run(o: &Options) -> Result<()> {
             )
         );
     }
+    if let Some(sp) = &report.speed {
+        print_speed(sp, q);
+    }
     println!("wrote {}", report.files.join(", "));
     println!("{CAUTION}");
     Ok(())
+}
+
+fn print_speed(sp: &SpeedOut, q: Quantity) {
+    let unit = q.motion_unit();
+    println!(
+        "running-speed orders over {}-{} rpm ({} speeds), largest {} over the response points:",
+        sp.rpm_range[0],
+        sp.rpm_range[1],
+        sp.speeds_evaluated,
+        q.motion()
+    );
+    let after = sp.orders.iter().any(|o| o.peak_after.is_some());
+    let rows = sp
+        .orders
+        .iter()
+        .map(|o| {
+            let mut row = vec![
+                o.name.clone(),
+                format!("{:.0}", o.peak_before.rpm),
+                format!("{:.2}", o.peak_before.frequency_hz),
+                format!("{:.4e}", o.peak_before.value),
+                o.peak_before.point.clone(),
+            ];
+            if let Some(a) = &o.peak_after {
+                row.extend([format!("{:.0}", a.rpm), format!("{:.4e}", a.value)]);
+            }
+            row
+        })
+        .collect();
+    let peak_head = format!("peak [{unit}]");
+    let after_head = format!("with absorbers [{unit}]");
+    let mut head = vec!["order", "at rpm", "frequency [Hz]", peak_head.as_str(), "point"];
+    if after {
+        head.extend(["with absorbers at rpm", after_head.as_str()]);
+    }
+    println!("{}", table(&head, rows));
+    if sp.crossings.is_empty() {
+        println!("no order meets a natural frequency inside the speed range");
+    } else {
+        println!("crossings of orders with natural frequencies inside the speed range:");
+        let rows = sp
+            .crossings
+            .iter()
+            .map(|c| {
+                vec![
+                    c.order_name.clone(),
+                    format!("{}", c.mode),
+                    format!("{:.3}", c.frequency_hz),
+                    format!("{:.0}", c.rpm),
+                ]
+            })
+            .collect();
+        println!("{}", table(&["order", "mode", "frequency [Hz]", "speed [rpm]"], rows));
+    }
+    match (&sp.critical_speed, &sp.critical_speed_note) {
+        (Some(c), _) => {
+            let flag = if c.inside_range || c.margin < c.warning_below { "WARNING: " } else { "" };
+            println!("critical speed: {flag}{}", c.note);
+        }
+        (None, Some(n)) => println!("critical speed: {n}"),
+        (None, None) => {}
+    }
 }

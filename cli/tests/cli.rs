@@ -1955,3 +1955,156 @@ fn structure_damping_block_is_verified_against_the_direct_solve() {
     r.assert_success("respond with a damping block");
     assert!(num(&r.json()["verification"]["max_relative_difference"], "max_relative_difference") < 0.01);
 }
+
+/// An invented pinned-pinned aluminium tube shaft (1 m, 50 × 2 mm) with two running-speed orders.
+fn shaft_with_orders(top_rpm: f64) -> Value {
+    json!({
+        "title": "Invented test shaft: aluminium tube on two pins with unbalance and a four-blade rotor",
+        "materials": {"al": {"youngs_modulus": 7.0e10, "poisson_ratio": 0.33, "density": 2700}},
+        "sections": {"tube": {"circular_tube": {"outer_diameter": 0.05, "wall_thickness": 0.002}}},
+        "lines": [{"name": "shaft", "from": [0, 0, 0], "to": [1, 0, 0], "elements": 30,
+                   "section": "tube", "material": "al"}],
+        "supports": [{"at": {"line": "shaft", "at": 0.0}, "fixed": ["ux", "uy", "uz", "rx"]},
+                     {"at": {"line": "shaft", "at": 1.0}, "fixed": ["uy", "uz"]}],
+        "absorbers": [{"name": "insert", "at": {"line": "shaft", "at": 0.5}, "direction": "z",
+                       "mass": 0.05, "stiffness": 2.0e4, "damping": 2.0}],
+        "study": {
+            "modal_damping_ratio": 0.01,
+            "rpm_range": [600, top_rpm],
+            "orders": [
+                {"name": "unbalance", "order": 1, "at": {"line": "shaft", "at": 0.4}, "direction": "z",
+                 "amplitude": 2.0, "amplitude_law": "rpm_squared"},
+                {"name": "blades", "order": 4, "at": {"line": "shaft", "at": 0.4}, "direction": "z",
+                 "amplitude_table": [[0, 0.5], [10000, 1.5]]}
+            ],
+            "response_points": [{"name": "middle", "at": {"line": "shaft", "at": 0.5}, "direction": "z"}]
+        }
+    })
+}
+
+#[test]
+fn respond_sweeps_orders_lists_crossings_and_states_the_critical_speed_margin() {
+    // Pinned-pinned Euler–Bernoulli tube: f₁ = (π/2L²)√(EI/ρA) (Blevins, Formulas for Natural
+    // Frequency and Mode Shape, table 8-1). Top speed 0.9 × 60 f₁: the margin (n_c − n_max)/n_max
+    // is 1/0.9 − 1 = 11.1 %, below the 20 % of common practice, so the text output warns.
+    let (e, rho, d, t) = (7.0e10_f64, 2700.0_f64, 0.05_f64, 0.002_f64);
+    let di = d - 2.0 * t;
+    let i = std::f64::consts::PI / 64.0 * (d.powi(4) - di.powi(4));
+    let a = std::f64::consts::PI / 4.0 * (d * d - di * di);
+    let f1 = std::f64::consts::PI / 2.0 * (e * i / (rho * a)).sqrt();
+    let top = (0.9 * 60.0 * f1).round();
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("shaft.json");
+    std::fs::write(&model, pretty(&shaft_with_orders(top))).expect("model written");
+    let out = dir.join("out");
+    let r =
+        antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    r.assert_success("respond with orders");
+    let j = r.json();
+    let s = &j["speed"];
+    let c = &s["critical_speed"];
+    let critical = num(&c["critical_rpm"], "critical_rpm");
+    assert!((critical / (60.0 * f1) - 1.0).abs() < 2e-3, "critical speed {critical} against 60 f1 = {}", 60.0 * f1);
+    let margin = num(&c["margin"], "margin");
+    assert!((margin - (critical - top) / top).abs() < 1e-12, "margin {margin}");
+    assert_eq!(c["inside_range"], json!(false));
+    assert_eq!(num(&c["mode"], "mode"), 1.0);
+    // Crossings: order 4 meets the first bending pair at 15 f₁ rpm; order 1 meets nothing below the top.
+    let crossings = s["crossings"].as_array().expect("crossings");
+    assert!(!crossings.is_empty());
+    for x in crossings {
+        let (k, f, n) = (num(&x["order"], "order"), num(&x["frequency_hz"], "f"), num(&x["rpm"], "rpm"));
+        assert!((k * n / 60.0 - f).abs() < 1e-9 * f, "crossing {x}");
+        assert!((600.0..=top).contains(&n), "crossing outside the range: {x}");
+    }
+    assert!(crossings.iter().any(|x| x["order_name"] == json!("blades") && num(&x["mode"], "mode") == 1.0));
+    // The blade order peaks at its crossing with mode 1 and the absorber lowers it.
+    let blades = &s["orders"][1];
+    let before = num(&blades["peak_before"]["value"], "peak_before");
+    let after = num(&blades["peak_after"]["value"], "peak_after");
+    assert!((num(&blades["peak_before"]["rpm"], "rpm") / (critical / 4.0) - 1.0).abs() < 2e-3);
+    assert!(after < before, "absorber lowers the blade order peak: {after} vs {before}");
+    assert!(num(&blades["absorbers"][0]["max_stroke_m"], "stroke") > 0.0);
+    assert_files(&out, &["response.csv", "frf.svg", "response.json", "speed.csv", "speed.svg", "interference.svg"]);
+    let csv = std::fs::read_to_string(out.join("speed.csv")).expect("speed.csv");
+    assert!(csv.starts_with("rpm,unbalance frequency [Hz],unbalance middle before [m],unbalance middle after [m]"));
+    // Text output: the warning and the caution.
+    let r = antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--out".as_ref(), out.as_os_str()]);
+    r.assert_success("respond with orders, text");
+    assert!(r.stdout.contains("critical speed: WARNING"), "{}", r.stdout);
+    assert!(r.stdout.contains("Caution"), "{}", r.stdout);
+    // --quantity accelerance: peak values are ω² times the displacement at the same speed.
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--quantity".as_ref(),
+            "accelerance".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond --quantity accelerance");
+    let p = &r.json()["speed"]["orders"][0]["peak_before"];
+    let w = 2.0 * std::f64::consts::PI * num(&p["frequency_hz"], "f");
+    assert!((num(&p["value"], "value") / (w * w * num(&p["displacement_m"], "x")) - 1.0).abs() < 1e-12);
+}
+
+#[test]
+fn bad_speed_ranges_and_orders_are_rejected() {
+    let order = json!({"order": 1, "at": {"line": "shaft", "at": 0.3}, "direction": "z", "amplitude": 1});
+    let o = order.clone();
+    assert_edit_rejected(
+        move |m| {
+            m["study"]["rpm_range"] = json!([3000, 600]);
+            m["study"]["orders"] = json!([o]);
+        },
+        &["study.rpm_range", "[3000, 600] is reversed", "0 < low < high"],
+    );
+    let o = order.clone();
+    assert_edit_rejected(move |m| m["study"]["orders"] = json!([o]), &["study.orders", "give study.rpm_range"]);
+    assert_edit_rejected(
+        |m| m["study"]["rpm_range"] = json!([600, 3000]),
+        &["study.orders", "rpm_range is given but no order"],
+    );
+    let mut o = order.clone();
+    o["amplitude_table"] = json!([[1000, 1], [3000, 2]]);
+    o.as_object_mut().expect("order").remove("amplitude");
+    assert_edit_rejected(
+        move |m| {
+            m["study"]["rpm_range"] = json!([600, 3000]);
+            m["study"]["orders"] = json!([o]);
+        },
+        &["study.orders[0].amplitude_table", "covers 1000-3000 rpm", "600-3000", "not extrapolated"],
+    );
+    let mut o = order.clone();
+    o["at"] = json!({"line": "shaft", "at": 0.0});
+    assert_edit_rejected(
+        move |m| {
+            m["study"]["rpm_range"] = json!([600, 3000]);
+            m["study"]["orders"] = json!([o]);
+        },
+        &["study.orders[0].at", "every DOF along its direction is fixed"],
+    );
+    let mut o = order.clone();
+    o["order"] = json!(0);
+    assert_edit_rejected(
+        move |m| {
+            m["study"]["rpm_range"] = json!([600, 3000]);
+            m["study"]["orders"] = json!([o]);
+        },
+        &["study.orders[0]", "order"],
+    );
+    let mut o = order;
+    o["amplitude_table"] = json!([[0, 1], [5000, 2]]);
+    assert_edit_rejected(
+        move |m| {
+            m["study"]["rpm_range"] = json!([600, 3000]);
+            m["study"]["orders"] = json!([o]);
+        },
+        &["study.orders[0]", "amplitude (with amplitude_law) or as amplitude_table"],
+    );
+}

@@ -525,8 +525,10 @@ pub struct Absorber {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Study {
-    /// Frequency band of interest `[low, high]`, in Hz.
-    pub band_hz: [f64; 2],
+    /// Frequency band of interest `[low, high]`, in Hz. May be left out when `orders` are given:
+    /// the band is then the orders' frequency span over `rpm_range`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub band_hz: Option<[f64; 2]>,
     /// Harmonic point forces, all at the same frequency.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub excitation: Vec<Force>,
@@ -558,6 +560,60 @@ pub struct Study {
     /// RMS response is the integral over the band.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub random: Vec<RandomForce>,
+    /// Operating speed range `[low, high]` of a rotating part, in rev/min; needed with `orders`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rpm_range: Option<[f64; 2]>,
+    /// Running-speed orders: forces at a multiple of the shaft speed, swept over `rpm_range`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub orders: Vec<Order>,
+}
+
+/// How an order's force amplitude varies with speed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum AmplitudeLaw {
+    /// The same amplitude at every speed.
+    Constant,
+    /// Amplitude ∝ rpm² (unbalance: F = m e ω²), equal to `amplitude` at `reference_rpm`.
+    RpmSquared,
+}
+
+/// A running-speed order: a harmonic force (or moment) at `order` × the shaft speed, f = order ·
+/// rpm / 60 Hz.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Order {
+    /// Name used in reports. Default: `order K`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub name: Option<String>,
+    /// Multiple of the shaft speed (1 = once per revolution; a gear mesh: its tooth count),
+    /// dimensionless, positive (fractions allowed).
+    pub order: f64,
+    /// Where.
+    pub at: Location,
+    /// Direction of the force (or the moment's axis).
+    pub direction: Direction,
+    /// Amplitude, in N (N·m for a moment): at every speed (`constant`, the default law) or at
+    /// `reference_rpm` (`rpm_squared`). Give this or `amplitude_table`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub amplitude: Option<f64>,
+    /// How `amplitude` varies with speed. Default `constant`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub amplitude_law: Option<AmplitudeLaw>,
+    /// Speed at which an `rpm_squared` amplitude is given, in rev/min. Default: the top of
+    /// `rpm_range`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reference_rpm: Option<f64>,
+    /// Amplitude versus speed `[[rpm, N], ...]`, strictly ascending speeds covering `rpm_range`,
+    /// interpolated linearly. Instead of `amplitude`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub amplitude_table: Option<Vec<[f64; 2]>>,
+    /// Phase, in degrees. Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub phase_deg: Option<f64>,
+    /// `true`: a moment about `direction` instead of a force. Default false.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moment: Option<bool>,
 }
 
 /// A random force with a one-sided power spectral density.

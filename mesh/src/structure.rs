@@ -375,6 +375,67 @@ pub struct PointForce {
     pub moment: bool,
 }
 
+/// How a checked order's amplitude depends on speed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum OrderAmplitude {
+    /// The same at every speed, in N (N·m).
+    Constant(f64),
+    /// `amplitude` · (rpm / `reference_rpm`)².
+    RpmSquared {
+        /// Amplitude at the reference speed, in N (N·m).
+        amplitude: f64,
+        /// Reference speed, in rev/min.
+        reference_rpm: f64,
+    },
+    /// Linear interpolation in (rpm, N), ascending speeds covering the study's range.
+    Table(Vec<(f64, f64)>),
+}
+
+/// A checked running-speed order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct OrderSpec {
+    /// Name used in reports.
+    pub name: String,
+    /// Multiple of the shaft speed (f = order · rpm / 60 Hz).
+    pub order: f64,
+    /// Node index.
+    pub node: usize,
+    /// Direction (of the force, or the moment's axis).
+    pub direction: DirectionSpec,
+    /// Amplitude law.
+    pub amplitude: OrderAmplitude,
+    /// Phase, in rad.
+    pub phase_rad: f64,
+    /// A moment about `direction` instead of a force.
+    pub moment: bool,
+}
+
+impl OrderSpec {
+    /// Excitation frequency at `rpm` (rev/min), in Hz: order · rpm / 60.
+    pub fn frequency_hz(&self, rpm: f64) -> f64 {
+        self.order * rpm / 60.0
+    }
+
+    /// Force amplitude at `rpm` (rev/min), in N (N·m for a moment).
+    pub fn amplitude_at(&self, rpm: f64) -> f64 {
+        match &self.amplitude {
+            OrderAmplitude::Constant(a) => *a,
+            OrderAmplitude::RpmSquared { amplitude, reference_rpm } => amplitude * (rpm / reference_rpm).powi(2),
+            OrderAmplitude::Table(t) => {
+                let i = t.partition_point(|p| p.0 <= rpm);
+                if i == 0 {
+                    t[0].1
+                } else if i == t.len() {
+                    t[t.len() - 1].1
+                } else {
+                    let ((x0, y0), (x1, y1)) = (t[i - 1], t[i]);
+                    y0 + (y1 - y0) * (rpm - x0) / (x1 - x0)
+                }
+            }
+        }
+    }
+}
+
 /// A checked random force.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RandomSpec {
@@ -558,6 +619,10 @@ pub struct StudySpec {
     pub temperatures_c: Vec<f64>,
     /// Random forces.
     pub random: Vec<RandomSpec>,
+    /// Operating speed range, in rev/min (given with `orders`).
+    pub rpm_range: Option<[f64; 2]>,
+    /// Running-speed orders.
+    pub orders: Vec<OrderSpec>,
     /// The largest amplitude given in `excitation` (before any spreading over a region), in N; 1
     /// when there is no harmonic force.
     pub reference_force: f64,

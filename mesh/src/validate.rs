@@ -8,17 +8,17 @@ use crate::error::ModelError;
 use crate::generate::{Part, panel_part, tube_part};
 use crate::import::{CellKind, MeshData, read_mesh};
 use crate::model::{
-    CandidateSet, Direction, ElementId, Fixity, FixityPreset, LinkKind, Location, MassMatrix, MeshProperty, Model,
-    NodeId, Objective, Section, SpringEnd, Targets,
+    AmplitudeLaw, CandidateSet, Direction, ElementId, Fixity, FixityPreset, LinkKind, Location, MassMatrix,
+    MeshProperty, Model, NodeId, Objective, Section, SpringEnd, Targets,
 };
 use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, WARP_WARNING_DEG, shell_shape};
 use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
-    LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec, ShellElement,
-    SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal,
-    distance,
+    LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce, RandomSpec,
+    ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes,
+    UncertaintySpec, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -252,6 +252,19 @@ fn ascending_table(at: &str, t: &[[f64; 2]], x_name: &str, y_name: &str) -> Resu
         }
     }
     Ok(t.iter().map(|p| (p[0], p[1])).collect())
+}
+
+/// The largest amplitude of an order over the speed range `[r0, r1]` (the table's rows inside it
+/// and its values at both ends), in N.
+fn max_amplitude(o: &OrderSpec, [r0, r1]: [f64; 2]) -> f64 {
+    match &o.amplitude {
+        OrderAmplitude::Table(t) => t
+            .iter()
+            .filter(|p| p.0 > r0 && p.0 < r1)
+            .map(|p| p.1)
+            .fold(o.amplitude_at(r0).max(o.amplitude_at(r1)), f64::max),
+        _ => o.amplitude_at(r0).max(o.amplitude_at(r1)),
+    }
 }
 
 fn check_positive(at: &str, field: &'static str, value: f64) -> Result<(), ModelError> {
@@ -1676,7 +1689,22 @@ impl<'a> Builder<'a> {
     }
 
     fn study(&mut self, s: &crate::model::Study, fixed: &[[bool; 6]]) -> Result<StudySpec, ModelError> {
-        let [lo, hi] = s.band_hz;
+        let (rpm_range, orders) = self.orders(s, fixed)?;
+        let [lo, hi] = match (s.band_hz, rpm_range) {
+            (Some(b), _) => b,
+            (None, Some([r0, r1])) => {
+                let k0 = orders.iter().map(|o| o.order).fold(f64::INFINITY, f64::min);
+                let k1 = orders.iter().map(|o| o.order).fold(0.0, f64::max);
+                [k0 * r0 / 60.0, k1 * r1 / 60.0]
+            }
+            (None, None) => {
+                return Err(ModelError::Invalid {
+                    at: "study".into(),
+                    message: "the study has no band_hz: give the band [low, high] in Hz (or rpm_range with orders)"
+                        .into(),
+                });
+            }
+        };
         if !(lo.is_finite() && hi.is_finite() && lo >= 0.0 && hi > lo) {
             return Err(ModelError::Invalid {
                 at: "study.band_hz".into(),
@@ -1693,13 +1721,22 @@ impl<'a> Builder<'a> {
                 allowed: "between 0 and 1 (exclusive), e.g. 0.01 for 1 %".into(),
             });
         }
-        let fmax = s.max_mode_frequency_hz.unwrap_or(2.0 * hi);
-        if !(fmax.is_finite() && fmax >= hi) {
+        // The orders' highest excitation frequency also needs its modes.
+        let top = match rpm_range {
+            Some([_, r1]) => orders.iter().map(|o| o.frequency_hz(r1)).fold(hi, f64::max),
+            None => hi,
+        };
+        let fmax = s.max_mode_frequency_hz.unwrap_or(2.0 * top);
+        if !(fmax.is_finite() && fmax >= top) {
             return Err(ModelError::OutOfRange {
                 at: "study".into(),
                 field: "max_mode_frequency_hz",
                 value: fmax,
-                allowed: format!("at least the band's top, {hi} Hz"),
+                allowed: if top > hi {
+                    format!("at least the highest order frequency over rpm_range, {top} Hz")
+                } else {
+                    format!("at least the band's top, {hi} Hz")
+                },
             });
         }
         let mut excitation = Vec::new();
@@ -1754,7 +1791,22 @@ impl<'a> Builder<'a> {
                 });
             }
         }
-        let reference_force = s.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
+        let mut reference_force = s.excitation.iter().map(|f| f.amplitude).fold(0.0, f64::max);
+        if let (true, Some(range)) = (excitation.is_empty(), rpm_range) {
+            // Orders alone: the frequency response (per newton) is that of the order forces, each at
+            // its largest amplitude over the speed range.
+            for o in &orders {
+                let amplitude = max_amplitude(o, range);
+                reference_force = reference_force.max(amplitude);
+                excitation.push(PointForce {
+                    node: o.node,
+                    direction: o.direction.clone(),
+                    amplitude,
+                    phase_rad: o.phase_rad,
+                    moment: o.moment,
+                });
+            }
+        }
         let reference_force = if reference_force > 0.0 { reference_force } else { 1.0 };
         let damping = self.damping_spec(s, zeta)?;
         let (absorber_elastomers, temperatures_c) = self.elastomers(s)?;
@@ -1797,8 +1849,141 @@ impl<'a> Builder<'a> {
             absorber_elastomers,
             temperatures_c,
             random,
+            rpm_range,
+            orders,
             reference_force,
         })
+    }
+
+    /// The study's speed range and orders, checked.
+    fn orders(
+        &mut self,
+        s: &crate::model::Study,
+        fixed: &[[bool; 6]],
+    ) -> Result<(Option<[f64; 2]>, Vec<OrderSpec>), ModelError> {
+        let range = match s.rpm_range {
+            None if s.orders.is_empty() => return Ok((None, Vec::new())),
+            None => {
+                return Err(ModelError::Invalid {
+                    at: "study.orders".into(),
+                    message: "orders need the speed range: give study.rpm_range [low, high] in rev/min".into(),
+                });
+            }
+            Some([r0, r1]) => {
+                if !(r0.is_finite() && r1.is_finite() && r0 > 0.0 && r1 > r0) {
+                    let what = if r1 < r0 { "is reversed" } else { "is not a speed range" };
+                    return Err(ModelError::Invalid {
+                        at: "study.rpm_range".into(),
+                        message: format!("[{r0}, {r1}] {what}; give [low, high] with 0 < low < high, in rev/min"),
+                    });
+                }
+                if s.orders.is_empty() {
+                    return Err(ModelError::Invalid {
+                        at: "study.orders".into(),
+                        message: "rpm_range is given but no order: add at least one, e.g. {\"order\": 1, \"at\": ..., \
+                                  \"direction\": ..., \"amplitude\": ...}"
+                            .into(),
+                    });
+                }
+                [r0, r1]
+            }
+        };
+        let mut orders = Vec::new();
+        for (i, o) in s.orders.iter().enumerate() {
+            let at = format!("study.orders[{i}]");
+            check_positive(&at, "order", o.order)?;
+            let dir = direction(&format!("{at}.direction"), &o.direction)?;
+            let node = self.locate(&format!("{at}.at"), &o.at)?;
+            let moment = o.moment.unwrap_or(false);
+            if held_along(fixed, node, &dir.unit, moment) {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.at"),
+                    message: "the order's force acts where every DOF along its direction is fixed by a support, so \
+                              it does nothing; move it to a free node"
+                        .into(),
+                });
+            }
+            let phase = o.phase_deg.unwrap_or(0.0);
+            if !phase.is_finite() {
+                return Err(ModelError::OutOfRange {
+                    at,
+                    field: "phase_deg",
+                    value: phase,
+                    allowed: "a finite angle in degrees".into(),
+                });
+            }
+            let amplitude = match (o.amplitude, &o.amplitude_table) {
+                (Some(_), Some(_)) | (None, None) => {
+                    return Err(ModelError::Invalid {
+                        at,
+                        message: "give the force as amplitude (with amplitude_law) or as amplitude_table, one of them"
+                            .into(),
+                    });
+                }
+                (Some(a), None) => {
+                    check_positive(&at, "amplitude", a)?;
+                    match o.amplitude_law.unwrap_or(AmplitudeLaw::Constant) {
+                        AmplitudeLaw::Constant => {
+                            if o.reference_rpm.is_some() {
+                                return Err(ModelError::Invalid {
+                                    at,
+                                    message: "reference_rpm belongs to amplitude_law rpm_squared; remove it or set \
+                                              the law"
+                                        .into(),
+                                });
+                            }
+                            OrderAmplitude::Constant(a)
+                        }
+                        AmplitudeLaw::RpmSquared => {
+                            let reference_rpm = o.reference_rpm.unwrap_or(range[1]);
+                            check_positive(&at, "reference_rpm", reference_rpm)?;
+                            OrderAmplitude::RpmSquared { amplitude: a, reference_rpm }
+                        }
+                    }
+                }
+                (None, Some(t)) => {
+                    if o.amplitude_law.is_some() || o.reference_rpm.is_some() {
+                        return Err(ModelError::Invalid {
+                            at,
+                            message: "amplitude_table gives the amplitude at each speed: remove amplitude_law and \
+                                      reference_rpm"
+                                .into(),
+                        });
+                    }
+                    let tat = format!("{at}.amplitude_table");
+                    if t.len() < 2 {
+                        return Err(ModelError::Invalid {
+                            at: tat,
+                            message: "give at least two [rpm, N] rows covering rpm_range".into(),
+                        });
+                    }
+                    let rows = ascending_table(&tat, t, "speed", "amplitude")?;
+                    let (first, last) = (rows[0].0, rows[rows.len() - 1].0);
+                    if first > range[0] || last < range[1] {
+                        return Err(ModelError::Invalid {
+                            at: tat,
+                            message: format!(
+                                "the table covers {first}-{last} rpm but rpm_range is {}-{} rpm; extend the table \
+                                 (amplitudes are not extrapolated)",
+                                range[0], range[1]
+                            ),
+                        });
+                    }
+                    OrderAmplitude::Table(rows)
+                }
+            };
+            let name = o.name.clone().unwrap_or_else(|| format!("order {}", o.order));
+            orders.push(OrderSpec {
+                name,
+                order: o.order,
+                node,
+                direction: dir,
+                amplitude,
+                phase_rad: phase.to_radians(),
+                moment,
+            });
+        }
+        Ok((Some(range), orders))
     }
 
     fn damping_spec(&self, s: &crate::model::Study, zeta: f64) -> Result<DampingSpec, ModelError> {

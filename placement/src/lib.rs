@@ -13,6 +13,8 @@
 pub mod constraints;
 mod design;
 mod error;
+mod orders;
+mod quantity;
 mod refine;
 pub mod robust;
 pub mod screening;
@@ -25,4 +27,6 @@ pub use design::{
     design,
 };
 pub use error::PlacementError;
+pub use orders::{Crossing, OrderResponse, SpeedPeak, crossings};
+pub use quantity::Quantity;
 pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, VerifyPoint, link_of, structure_damping};

@@ -2,7 +2,9 @@
 //! model and candidate places, all as coordinates of one [`ModalModel`]; response curves and
 //! peaks with any set of absorbers coupled.
 
-use antinode_mesh::{AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, RandomSpec, Structure, StudySpec};
+use antinode_mesh::{
+    AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, OrderSpec, RandomSpec, Structure, StudySpec,
+};
 use antinode_solver::{
     AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
     ModalSolution, StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference,
@@ -61,6 +63,10 @@ pub struct StudyModel {
     pub temperature_c: Option<f64>,
     /// Random forces: coordinate index and PSD.
     pub random: Vec<(usize, RandomSpec)>,
+    /// Operating speed range, in rev/min (with `orders`).
+    pub rpm_range: Option<[f64; 2]>,
+    /// Running-speed orders and the coordinate of each one's force.
+    pub orders: Vec<(usize, OrderSpec)>,
     /// Modal factors at each grid frequency (shared by every evaluation).
     grid_factors: Vec<Vec<Complex64>>,
 }
@@ -229,6 +235,11 @@ impl StudyModel {
             random.push((coords.len(), r.clone()));
             coords.push(coordinate(r.node, &r.direction));
         }
+        let mut orders = Vec::new();
+        for o in &study.orders {
+            orders.push((coords.len(), o.clone()));
+            coords.push(Coordinate { node: o.node, direction: o.direction.unit, rotational: o.moment });
+        }
         let mut responses = Vec::new();
         for r in &study.response_points {
             responses.push(coords.len());
@@ -278,6 +289,8 @@ impl StudyModel {
             damping_ratio: grid_ratio,
             elastomers: study.absorber_elastomers.clone(),
             random,
+            rpm_range: study.rpm_range,
+            orders,
             temperature_c: study.temperatures_c.first().copied(),
             grid_factors,
         })
