@@ -22,7 +22,7 @@ pub mod tuning;
 
 pub use design::{
     AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, RefinementInfo, ScenarioResult, Slot, TargetMode,
-    design,
+    design, ring_insert_warnings,
 };
 pub use error::PlacementError;
 pub use study::{Candidate, Curves, GridTable, Peak, StudyModel, VerifyPoint, link_of, structure_damping};
