@@ -49,6 +49,9 @@ struct CandidateOut {
     rank: usize,
     location: LocationOut,
     direction: serde_json::Value,
+    /// Lateral absorbers: the second direction.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    second_direction: Option<serde_json::Value>,
     mass_ratio_per_kg: f64,
     effective_mass_kg: f64,
     mass_ratio: f64,
@@ -259,6 +262,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
                     rank: i + 1,
                     location: LocationOut::of(s, r.candidate.node),
                     direction: direction_json(&r.candidate.direction),
+                    second_direction: r.candidate.second.as_ref().map(|(d, _)| direction_json(d)),
                     mass_ratio_per_kg: r.mass_ratio_per_kg,
                     effective_mass_kg: r.effective_mass_kg,
                     mass_ratio: spec.mass_each * r.mass_ratio_per_kg,
@@ -400,7 +404,10 @@ fn print_human(r: &DesignReport, mass_each: f64) {
                 vec![
                     c.rank.to_string(),
                     loc(&c.location),
-                    dir_text(&c.direction),
+                    match &c.second_direction {
+                        Some(b) => format!("{} + {}", dir_text(&c.direction), dir_text(b)),
+                        None => dir_text(&c.direction),
+                    },
                     format!("{:.4e}", c.mass_ratio_per_kg),
                     format!("{:.4}", c.mass_ratio),
                     format!("{:.4e}", c.score),
