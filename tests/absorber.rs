@@ -233,6 +233,7 @@ fn coupled_frequencies_match_the_lumped_estimates() {
             mass: a.mass_kg,
             stiffness: a.stiffness_n_per_m,
             damping: AbsorberDamping::None,
+            same_body_as: None,
         }];
         let sys = assemble(&single, AssemblyOptions { include_absorbers: true }).unwrap_or_else(|e| panic!("{e}"));
         let full =

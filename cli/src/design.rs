@@ -2,7 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
-use antinode_mesh::{Absorber, Location, validate};
+use antinode_mesh::{Absorber, AbsorberKind, Link, LinkKind, LinkMembers, Location, validate};
 use antinode_placement::{DesignedAbsorber, StudyModel, design};
 use anyhow::{Context, Result, bail};
 use serde::Serialize;
@@ -18,8 +18,30 @@ struct AbsorberOut {
     name: String,
     location: LocationOut,
     direction: serde_json::Value,
+    /// Lateral absorbers: the second direction of the same body.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    second_direction: Option<serde_json::Value>,
+    /// Ring inserts: the ring and the averaging link written to design.json.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    ring: Option<RingOut>,
     #[serde(flatten)]
     designed: DesignedAbsorber,
+}
+
+#[derive(Serialize)]
+struct RingOut {
+    tube: String,
+    station: usize,
+    fraction: f64,
+    link: String,
+}
+
+fn kind_word(k: AbsorberKind) -> &'static str {
+    match k {
+        AbsorberKind::Point => "point",
+        AbsorberKind::Lateral => "lateral",
+        AbsorberKind::RingInsert => "ring insert",
+    }
 }
 
 #[derive(Serialize)]
@@ -27,6 +49,9 @@ struct CandidateOut {
     rank: usize,
     location: LocationOut,
     direction: serde_json::Value,
+    /// Lateral absorbers: the second direction.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    second_direction: Option<serde_json::Value>,
     mass_ratio_per_kg: f64,
     effective_mass_kg: f64,
     mass_ratio: f64,
@@ -51,6 +76,10 @@ struct DesignReport {
     band_hz: [f64; 2],
     modes_kept: usize,
     candidates_evaluated: usize,
+    /// What the design places: point, lateral or ring_insert.
+    kind: AbsorberKind,
+    /// Warnings about the design request (a ring insert aimed at an ovaling mode).
+    warnings: Vec<String>,
     targets: Vec<antinode_placement::TargetMode>,
     absorbers: Vec<AbsorberOut>,
     ranking: Vec<SlotOut>,
@@ -95,11 +124,21 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let progress = Progress::new();
     progress.stage("assembling");
     let (system, zero) = assemble_checked(&l, false)?;
-    let modes = study_modes(&l, &system, zero, &progress)?;
+    let mut modes = study_modes(&l, &system, zero, &progress)?;
+    // Ring inserts: the mode classes tell which targets are ovaling modes (repeated pairs are
+    // oriented by the classification first, so the study model sees the same shapes).
+    let classes: Vec<antinode_solver::ModeClass> = if spec.kind == AbsorberKind::RingInsert {
+        let insight = antinode_solver::mode_insight(&l.structure, &system, &mut modes, &Default::default())
+            .with_context(|| format!("mode classes of {}", path.display()))?;
+        insight.modes.into_iter().map(|m| m.class).collect()
+    } else {
+        Vec::new()
+    };
     progress.stage("screening and ranking candidates");
     let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
         .with_context(|| format!("in {}", path.display()))?;
     let d = design(&sm, &spec, &l.structure).with_context(|| format!("design for {}", path.display()))?;
+    let warnings = antinode_placement::ring_insert_warnings(&spec, &d, &sm, &classes);
     if !spec.trade_off_masses.is_empty() {
         progress.stage("trade-off: designing at each total mass");
     }
@@ -112,11 +151,53 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     // design.json goes to the output folder: its mesh files are named by absolute paths.
     antinode_mesh::resolve_mesh_files(&mut model, crate::pipeline::model_folder(path));
     let first = model.absorbers.len();
+    let mut rings = Vec::new();
     for (i, a) in d.absorbers.iter().enumerate() {
+        let name = match a.kind {
+            AbsorberKind::Point => format!("designed {} (mode {})", first + i + 1, a.target_mode),
+            k => format!("designed {} (mode {}, {})", first + i + 1, a.target_mode, kind_word(k)),
+        };
+        let at = match spec.rings.iter().find(|r| r.node == a.candidate.node) {
+            Some(r) if a.kind == AbsorberKind::RingInsert => {
+                // The ring's averaging link goes into design.json (the model's own when it has one).
+                let link = &s.links[r.link];
+                let link_name = if model.links.iter().any(|m| m.name == link.name) {
+                    link.name.clone()
+                } else {
+                    let mut n = format!("designed ring insert {}", first + i + 1);
+                    while model.links.iter().any(|m| m.name == n) {
+                        n.push('\'');
+                    }
+                    model.links.push(Link {
+                        name: n.clone(),
+                        kind: LinkKind::Average,
+                        reference: None,
+                        reference_point: Some(s.nodes[r.node].xyz),
+                        members: LinkMembers {
+                            region: None,
+                            nodes: link.members.iter().map(|&m| s.nodes[m].id).collect(),
+                        },
+                    });
+                    n
+                };
+                rings.push(Some(RingOut {
+                    tube: s.tubes[r.tube].name.clone(),
+                    station: r.station,
+                    fraction: r.fraction,
+                    link: link_name.clone(),
+                }));
+                Location { link: Some(link_name), ..Location::default() }
+            }
+            _ => {
+                rings.push(None);
+                Location::node(s.nodes[a.candidate.node].id)
+            }
+        };
         model.absorbers.push(Absorber {
-            name: Some(format!("designed {} (mode {})", first + i + 1, a.target_mode)),
-            at: Location::node(s.nodes[a.candidate.node].id),
+            name: Some(name),
+            at,
             direction: a.candidate.direction.given.clone(),
+            second_direction: a.candidate.second.as_ref().map(|(d, _)| d.given.clone()),
             mass: a.mass_kg,
             stiffness: a.stiffness_n_per_m,
             damping: Some(a.damping_n_s_per_m),
@@ -133,14 +214,20 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let vtu_path = outputs.path("design.vtu");
     let trade_path = outputs.path("trade-off.svg");
     let mut all = sm.existing.clone();
+    // In the order of design.json's resolved absorbers: a lateral absorber's second direction
+    // right after its first.
     let new_links: Vec<antinode_solver::AbsorberLink> = d
         .absorbers
         .iter()
-        .map(|a| antinode_solver::AbsorberLink {
-            coord: a.candidate.coord,
-            mass: a.mass_kg,
-            stiffness: a.stiffness_n_per_m,
-            damping: antinode_mesh::AbsorberDamping::Viscous(a.damping_n_s_per_m),
+        .flat_map(|a| {
+            let link = antinode_solver::AbsorberLink {
+                coord: a.candidate.coord,
+                mass: a.mass_kg,
+                stiffness: a.stiffness_n_per_m,
+                damping: antinode_mesh::AbsorberDamping::Viscous(a.damping_n_s_per_m),
+            };
+            std::iter::once(link)
+                .chain(a.candidate.second.as_ref().map(|(_, c)| antinode_solver::AbsorberLink { coord: *c, ..link }))
         })
         .collect();
     all.extend(new_links);
@@ -175,6 +262,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
                     rank: i + 1,
                     location: LocationOut::of(s, r.candidate.node),
                     direction: direction_json(&r.candidate.direction),
+                    second_direction: r.candidate.second.as_ref().map(|(d, _)| direction_json(d)),
                     mass_ratio_per_kg: r.mass_ratio_per_kg,
                     effective_mass_kg: r.effective_mass_kg,
                     mass_ratio: spec.mass_each * r.mass_ratio_per_kg,
@@ -194,15 +282,20 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         band_hz: study.band_hz,
         modes_kept: modes.n_modes(),
         candidates_evaluated: sm.candidates.len(),
+        kind: spec.kind,
+        warnings,
         targets: d.targets.clone(),
         absorbers: d
             .absorbers
             .iter()
             .enumerate()
-            .map(|(i, a)| AbsorberOut {
-                name: names[first + i].clone(),
+            .zip(rings)
+            .map(|((i, a), ring)| AbsorberOut {
+                name: model.absorbers[first + i].name.clone().unwrap_or_default(),
                 location: LocationOut::of(s, a.candidate.node),
                 direction: direction_json(&a.candidate.direction),
+                second_direction: a.candidate.second.as_ref().map(|(d, _)| direction_json(d)),
+                ring,
                 designed: a.clone(),
             })
             .collect(),
@@ -311,7 +404,10 @@ fn print_human(r: &DesignReport, mass_each: f64) {
                 vec![
                     c.rank.to_string(),
                     loc(&c.location),
-                    dir_text(&c.direction),
+                    match &c.second_direction {
+                        Some(b) => format!("{} + {}", dir_text(&c.direction), dir_text(b)),
+                        None => dir_text(&c.direction),
+                    },
                     format!("{:.4e}", c.mass_ratio_per_kg),
                     format!("{:.4}", c.mass_ratio),
                     format!("{:.4e}", c.score),
@@ -330,10 +426,21 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         .iter()
         .map(|a| {
             let d = &a.designed;
+            let dirs = match &a.second_direction {
+                Some(b) => format!("{} + {}", dir_text(&a.direction), dir_text(b)),
+                None => dir_text(&a.direction),
+            };
+            let place = match &a.ring {
+                Some(r) => {
+                    format!("ring {} of {} (at {:.3}), centre {}", r.station, r.tube, r.fraction, loc(&a.location))
+                }
+                None => loc(&a.location),
+            };
             vec![
                 a.name.clone(),
-                loc(&a.location),
-                dir_text(&a.direction),
+                kind_word(d.kind).to_string(),
+                place,
+                dirs,
                 format!("{:.4}", d.mass_kg),
                 format!("{:.5e}", d.stiffness_n_per_m),
                 format!("{:.4e}", d.damping_n_s_per_m),
@@ -350,6 +457,7 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         table(
             &[
                 "absorber",
+                "kind",
                 "location",
                 "dir",
                 "mass [kg]",
@@ -426,6 +534,9 @@ fn print_human(r: &DesignReport, mass_each: f64) {
             println!("stroke limit {l:.4e} m met: worst-case stroke {:.4e} m", r.constraints.worst_stroke_m)
         }
         (None, None) => {}
+    }
+    for w in &r.warnings {
+        println!("warning: {w}");
     }
     println!("wrote {}", r.files.join(", "));
     println!("{}", r.caution);

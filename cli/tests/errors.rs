@@ -204,6 +204,12 @@ fn cases() -> Vec<Case> {
             expect: &["absorber design", "target mode 50 is not among the", "computed modes"],
         },
         Case {
+            class: "absorber-kind",
+            model: edited(|m| m["study"]["absorber_design"]["kind"] = json!("ring_insert")),
+            command: check,
+            expect: &["study.absorber_design.candidates[0]", "ring inserts", "sit in rings of a shell tube"],
+        },
+        Case {
             class: "output-folder",
             model: edited(|_| {}),
             command: &["modes", "model.json", "--out", "model.json"],

@@ -288,14 +288,19 @@ pub fn export_mesh(
             });
         }
     }
+    // A lateral absorber's second direction is written back as `second_direction` of its body.
+    let second = |i: usize| s.absorbers.iter().find(|b| b.same_body_as == Some(i)).map(|b| b.direction.given.clone());
     let absorbers = s
         .absorbers
         .iter()
-        .map(|a| Absorber {
+        .enumerate()
+        .filter(|(_, a)| a.same_body_as.is_none())
+        .map(|(i, a)| Absorber {
             elastomer: None,
             name: Some(a.name.clone()),
             at: Location::node(id(a.node)),
             direction: a.direction.given.clone(),
+            second_direction: second(i),
             mass: a.mass,
             stiffness: a.stiffness,
             damping: match a.damping {

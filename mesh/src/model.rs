@@ -504,6 +504,13 @@ pub struct Absorber {
     pub at: Location,
     /// Direction of action.
     pub direction: Direction,
+    /// Isotropic lateral absorber: a second direction of action, perpendicular to `direction`,
+    /// along which the same mass moves on a spring of the same stiffness and damping. For an
+    /// isotropic spring the two directions decouple exactly, so the absorber acts as two
+    /// one-direction absorbers of mass `mass` on the same node, but it is one body: its mass counts
+    /// once. Default: none (one direction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub second_direction: Option<Direction>,
     /// Moving mass, in kg.
     pub mass: f64,
     /// Spring stiffness, in N/m.
@@ -725,6 +732,23 @@ pub enum AutoWord {
     Auto,
 }
 
+/// The kind of absorber a design places.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum AbsorberKind {
+    /// One mass on one spring along one of `directions` at a node.
+    #[default]
+    Point,
+    /// One mass on springs of equal stiffness along the two perpendicular `directions` (exactly
+    /// two) at a node: serves both members of a bending pair; one body, its mass counted once.
+    Lateral,
+    /// A rigid mass on an averaging link to a whole ring of a shell tube (candidates
+    /// `{"tube": name, "from": a, "to": b}`), acting along one of `directions` through the ring's
+    /// average motion: it couples only to n = 0 and n = 1 ring motion (axial, bending, not
+    /// ovaling).
+    RingInsert,
+}
+
 /// Design objective.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "lowercase")]
@@ -736,17 +760,22 @@ pub enum Objective {
 }
 
 /// Where absorbers may go: `{"line": name, "from": a, "to": b}` (every line node between those
-/// fractions), `{"node": id}`, `{"xyz": [x, y, z]}` or `{"region": name}` (every node of the region).
+/// fractions), `{"tube": name, "from": a, "to": b}` (the tube's stations between those fractions:
+/// for ring inserts each ring of a shell tube, otherwise every node of those stations),
+/// `{"node": id}`, `{"xyz": [x, y, z]}` or `{"region": name}` (every node of the region).
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CandidateSet {
     /// A line name.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub line: Option<String>,
-    /// Start fraction along the line, in [0, 1].
+    /// A tube name (with `from`, `to`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tube: Option<String>,
+    /// Start fraction along the line or tube, in [0, 1].
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub from: Option<f64>,
-    /// End fraction along the line, in [0, 1].
+    /// End fraction along the line or tube, in [0, 1].
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub to: Option<f64>,
     /// A node id.
@@ -770,6 +799,9 @@ pub struct AbsorberDesign {
     /// Number of absorbers. Default 1.
     #[serde(default = "default_count")]
     pub count: usize,
+    /// What each absorber is. Default `point`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub kind: Option<AbsorberKind>,
     /// Moving mass of each absorber, in kg. Give this or `total_mass`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mass_each: Option<f64>,

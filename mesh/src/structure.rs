@@ -246,6 +246,9 @@ pub struct AbsorberSpec {
     pub stiffness: f64,
     /// Damping.
     pub damping: AbsorberDamping,
+    /// The second direction of an isotropic lateral absorber: the index of the entry (just before
+    /// this one) of the same body. Its mass is counted there, not again here.
+    pub same_body_as: Option<usize>,
 }
 
 /// A line's nodes, in order from its `from` point.
@@ -560,8 +563,13 @@ pub struct DesignSpec {
     pub count: usize,
     /// Moving mass of each absorber, in kg.
     pub mass_each: f64,
-    /// Candidate node indices, sorted, without repeats.
+    /// What each absorber is.
+    pub kind: crate::model::AbsorberKind,
+    /// Candidate node indices, sorted, without repeats (for ring inserts: the reference nodes of
+    /// the candidate rings' averaging links).
     pub candidates: Vec<usize>,
+    /// Ring inserts: the candidate rings, one per entry of `candidates`, in the same order.
+    pub rings: Vec<RingCandidate>,
     /// Allowed directions.
     pub directions: Vec<DirectionSpec>,
     /// Objective.
@@ -578,6 +586,22 @@ pub struct DesignSpec {
     pub uncertainty: UncertaintySpec,
     /// Total absorber masses for the trade-off curve, in kg.
     pub trade_off_masses: Vec<f64>,
+}
+
+/// A ring of a shell tube that may hold a ring insert: the averaging link that ties a new node at
+/// the ring's centre to the ring's nodes.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RingCandidate {
+    /// Tube index.
+    pub tube: usize,
+    /// Station index along the tube.
+    pub station: usize,
+    /// Axial fraction of the station, in [0, 1].
+    pub fraction: f64,
+    /// Index of the averaging link in [`Structure::links`].
+    pub link: usize,
+    /// Reference node of the link, at the ring's centre.
+    pub node: usize,
 }
 
 /// Checked uncertainty: relative scatters and levels per scattered quantity.
@@ -727,9 +751,9 @@ impl Structure {
         ElementParts { names, beams, shells, point_masses, springs, absorbers }
     }
 
-    /// Total moving mass of the absorbers, in kg.
+    /// Total moving mass of the absorbers, in kg (a lateral absorber's body counted once).
     pub fn absorber_mass(&self) -> f64 {
-        self.absorbers.iter().map(|a| a.mass).sum::<f64>() + 0.0
+        self.absorbers.iter().filter(|a| a.same_body_as.is_none()).map(|a| a.mass).sum::<f64>() + 0.0
     }
 
     /// Diagonal of the bounding box of all nodes, in m.

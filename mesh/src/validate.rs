@@ -8,8 +8,8 @@ use crate::error::ModelError;
 use crate::generate::{Part, panel_part, tube_part};
 use crate::import::{CellKind, MeshData, read_mesh};
 use crate::model::{
-    AmplitudeLaw, CandidateSet, Direction, ElementId, Fixity, FixityPreset, LinkKind, Location, MassMatrix,
-    MeshProperty, Model, NodeId, Objective, Section, SpringEnd, Targets,
+    AbsorberKind, AmplitudeLaw, CandidateSet, Direction, ElementId, Fidelity, Fixity, FixityPreset, LinkKind, Location,
+    MassMatrix, MeshProperty, Model, NodeId, Objective, Section, SpringEnd, Targets,
 };
 use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, WARP_WARNING_DEG, shell_shape};
 use crate::region::{RegionContext, select};
@@ -17,8 +17,8 @@ use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
     LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce, RandomSpec,
-    ResponseSpec, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes,
-    UncertaintySpec, bounding_diagonal, distance,
+    ResponseSpec, RingCandidate, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec,
+    TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -329,6 +329,24 @@ fn direction(at: &str, d: &Direction) -> Result<DirectionSpec, ModelError> {
             Ok(DirectionSpec { given: d.clone(), unit: v.map(|x| x / n) })
         }
     }
+}
+
+/// Checks that `b` (at `at`) is perpendicular to `a` (named `a_name`) within 1e-6 in the cosine.
+fn perpendicular(at: &str, a: &DirectionSpec, b: &DirectionSpec, a_name: &str) -> Result<(), ModelError> {
+    let cos: f64 = (0..3).map(|k| a.unit[k] * b.unit[k]).sum();
+    if cos.abs() > 1e-6 {
+        return Err(ModelError::Invalid {
+            at: at.to_string(),
+            message: format!(
+                "the two directions of a lateral absorber must be perpendicular (an isotropic spring in the \
+                 plane they span), but {:?} and {a_name} {:?} make {:.3}°",
+                b.unit,
+                a.unit,
+                cos.clamp(-1.0, 1.0).acos().to_degrees()
+            ),
+        });
+    }
+    Ok(())
 }
 
 /// A mesh file named by the model, read, with its place in the model.
@@ -1683,7 +1701,36 @@ impl<'a> Builder<'a> {
                     "{at} (\"{name}\") has no damping: its response peaks are unbounded at the two coupled frequencies"
                 ));
             }
-            out.push(AbsorberSpec { name, node, direction: dir, mass: a.mass, stiffness: a.stiffness, damping });
+            let second = match &a.second_direction {
+                Some(d2) => {
+                    let dat = format!("{at}.second_direction");
+                    let d2 = direction(&dat, d2)?;
+                    perpendicular(&dat, &dir, &d2, "direction")?;
+                    Some(d2)
+                }
+                None => None,
+            };
+            let first = out.len();
+            out.push(AbsorberSpec {
+                name: name.clone(),
+                node,
+                direction: dir,
+                mass: a.mass,
+                stiffness: a.stiffness,
+                damping,
+                same_body_as: None,
+            });
+            if let Some(d2) = second {
+                out.push(AbsorberSpec {
+                    name: format!("{name} (second direction)"),
+                    node,
+                    direction: d2,
+                    mass: a.mass,
+                    stiffness: a.stiffness,
+                    damping,
+                    same_body_as: Some(first),
+                });
+            }
         }
         Ok(out)
     }
@@ -2115,7 +2162,9 @@ impl<'a> Builder<'a> {
         }
         let mut out = Vec::new();
         for (i, a) in self.model.absorbers.iter().enumerate() {
-            out.push(match &a.elastomer {
+            // One entry per resolved absorber: a lateral absorber's second direction shares it.
+            let copies = if a.second_direction.is_some() { 2 } else { 1 };
+            let e = match &a.elastomer {
                 None => None,
                 Some(name) => Some(tables.get(name).cloned().ok_or_else(|| ModelError::Invalid {
                     at: format!("absorbers[{i}].elastomer"),
@@ -2128,7 +2177,8 @@ impl<'a> Builder<'a> {
                         }
                     ),
                 })?),
-            });
+            };
+            out.extend(std::iter::repeat_n(e, copies));
         }
         let temps = s.temperatures_c.clone();
         for (i, &t) in temps.iter().enumerate() {
@@ -2208,17 +2258,30 @@ impl<'a> Builder<'a> {
                 message: "no candidate places are given".into(),
             });
         }
+        let kind = d.kind.unwrap_or_default();
         let mut candidates = Vec::new();
+        let mut rings = Vec::new();
         for (i, c) in d.candidates.iter().enumerate() {
             let cat = format!("{at}.candidates[{i}]");
+            if kind == AbsorberKind::RingInsert {
+                let found = self.candidate_rings(&cat, c)?;
+                rings.extend(found);
+                continue;
+            }
             let found = self.candidate_nodes(&cat, c)?;
             if found.is_empty() {
                 return Err(ModelError::Invalid { at: cat, message: "this candidate range holds no node".into() });
             }
             candidates.extend(found);
         }
-        candidates.sort_unstable();
-        candidates.dedup();
+        if kind == AbsorberKind::RingInsert {
+            rings.sort_by_key(|r: &RingCandidate| r.node);
+            rings.dedup_by_key(|r| r.node);
+            candidates = rings.iter().map(|r| r.node).collect();
+        } else {
+            candidates.sort_unstable();
+            candidates.dedup();
+        }
         if d.directions.is_empty() {
             return Err(ModelError::Invalid {
                 at: format!("{at}.directions"),
@@ -2231,6 +2294,19 @@ impl<'a> Builder<'a> {
             .enumerate()
             .map(|(i, dir)| direction(&format!("{at}.directions[{i}]"), dir))
             .collect::<Result<Vec<_>, _>>()?;
+        if kind == AbsorberKind::Lateral {
+            if directions.len() != 2 {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.directions"),
+                    message: format!(
+                        "a lateral absorber acts along exactly two perpendicular directions (its isotropic spring \
+                         plane); {} are given",
+                        directions.len()
+                    ),
+                });
+            }
+            perpendicular(&format!("{at}.directions[1]"), &directions[0], &directions[1], "directions[0]")?;
+        }
         let min_spacing = match d.min_spacing {
             Some(s) => {
                 check_non_negative(at, "min_spacing", s)?;
@@ -2340,16 +2416,129 @@ impl<'a> Builder<'a> {
             targets,
             count: d.count,
             mass_each,
+            kind,
             candidates,
+            rings,
             directions,
             objective: d.objective.unwrap_or(Objective::Peak),
             min_spacing,
         })
     }
 
+    /// The `from`/`to` fractions of a line or tube candidate range, checked.
+    fn candidate_range(at: &str, c: &CandidateSet) -> Result<(f64, f64), ModelError> {
+        let from = c.from.unwrap_or(0.0);
+        let to = c.to.unwrap_or(1.0);
+        check_fraction(at, "from", from)?;
+        check_fraction(at, "to", to)?;
+        if from > to {
+            return Err(ModelError::Invalid {
+                at: at.to_string(),
+                message: format!("from = {from} is beyond to = {to}"),
+            });
+        }
+        Ok((from, to))
+    }
+
+    /// The stations of tube `t` between `from` and `to`.
+    fn stations_in(&self, t: usize, from: f64, to: f64) -> Vec<usize> {
+        let f = &self.tubes[t].fractions;
+        (0..f.len()).filter(|&k| f[k] >= from - 1e-9 && f[k] <= to + 1e-9).collect()
+    }
+
+    /// Ring-insert candidates of `c` (a `{"tube": name, "from": a, "to": b}` range of a shell tube):
+    /// one averaging link per ring, from a new node at the ring's centre to the ring's nodes (or the
+    /// model's own averaging link over exactly that ring, as `design.json` carries). Rings whose
+    /// nodes some link moves (an end fitting's ring) or whose centre holds a node are skipped.
+    fn candidate_rings(&mut self, at: &str, c: &CandidateSet) -> Result<Vec<RingCandidate>, ModelError> {
+        let Some(name) = &c.tube else {
+            return Err(ModelError::Invalid {
+                at: at.to_string(),
+                message: "ring inserts (kind \"ring_insert\") sit in rings of a shell tube: give the candidates as \
+                          {\"tube\": name, \"from\": a, \"to\": b}, not as nodes, lines or regions"
+                    .into(),
+            });
+        };
+        if c.line.is_some() || c.node.is_some() || c.xyz.is_some() || c.region.is_some() {
+            return Err(ModelError::Invalid {
+                at: at.to_string(),
+                message: "give only {\"tube\": name, \"from\": a, \"to\": b} for ring-insert candidates".into(),
+            });
+        }
+        let t = self.tube(&format!("{at}.tube"), name)?;
+        if self.tubes[t].fidelity != Fidelity::Shell {
+            return Err(ModelError::Invalid {
+                at: format!("{at}.tube"),
+                message: format!(
+                    "tube \"{name}\" is meshed as beams: a ring insert needs a wall ring, so the tube must have \
+                     \"fidelity\": \"shell\" (on a beam tube use a point or lateral absorber at its nodes)"
+                ),
+            });
+        }
+        let (from, to) = Self::candidate_range(at, c)?;
+        let mut moved = vec![false; self.nodes.len()];
+        for l in &self.links {
+            for &n in l.moved() {
+                moved[n] = true;
+            }
+        }
+        let mut out = Vec::new();
+        for k in self.stations_in(t, from, to) {
+            let tube = &self.tubes[t];
+            let mut ring = tube.rings[k].clone();
+            if ring.iter().any(|&n| moved[n]) {
+                continue;
+            }
+            ring.sort_unstable();
+            let fraction = tube.fractions[k];
+            let own = self.links.iter().position(|l| l.kind == LinkKind::Average && l.members == ring);
+            let link = match own {
+                Some(li) => li,
+                None => {
+                    let n = ring.len() as f64;
+                    let centre = ring.iter().fold([0.0; 3], |acc, &m| {
+                        let p = self.nodes[m].xyz;
+                        [acc[0] + p[0] / n, acc[1] + p[1] / n, acc[2] + p[2] / n]
+                    });
+                    if self.grid.find(centre, &self.nodes).is_some() {
+                        continue;
+                    }
+                    let link_name = format!("{name} ring insert candidate {k}");
+                    if self.link_index.contains_key(&link_name) {
+                        return Err(ModelError::Invalid {
+                            at: at.to_string(),
+                            message: format!(
+                                "the link name \"{link_name}\" is kept for the ring-insert candidates; rename that link"
+                            ),
+                        });
+                    }
+                    let tube_name = name.clone();
+                    let reference =
+                        self.add_point(centre, || format!("centre of ring {k} of tube \"{tube_name}\" (ring insert)"));
+                    self.link_index.insert(link_name.clone(), self.links.len());
+                    self.links.push(LinkSpec { name: link_name, kind: LinkKind::Average, reference, members: ring });
+                    moved.push(true);
+                    self.links.len() - 1
+                }
+            };
+            out.push(RingCandidate { tube: t, station: k, fraction, link, node: self.links[link].reference });
+        }
+        if out.is_empty() {
+            return Err(ModelError::Invalid {
+                at: at.to_string(),
+                message: format!(
+                    "tube \"{name}\" has no ring between {from} and {to} that can hold a ring insert (rings tied by \
+                     an end fitting or with a node at their centre do not count)"
+                ),
+            });
+        }
+        Ok(out)
+    }
+
     fn candidate_nodes(&mut self, at: &str, c: &CandidateSet) -> Result<Vec<usize>, ModelError> {
         let forms = [
-            c.line.is_some() || c.from.is_some() || c.to.is_some(),
+            c.line.is_some() || (c.tube.is_none() && (c.from.is_some() || c.to.is_some())),
+            c.tube.is_some(),
             c.node.is_some(),
             c.xyz.is_some(),
             c.region.is_some(),
@@ -2357,10 +2546,16 @@ impl<'a> Builder<'a> {
         if forms.iter().filter(|&&f| f).count() != 1 {
             return Err(ModelError::Invalid {
                 at: at.to_string(),
-                message: "give exactly one of {\"line\": name, \"from\": a, \"to\": b}, {\"node\": id}, \
-                          {\"xyz\": [x, y, z]} or {\"region\": name}"
+                message: "give exactly one of {\"line\": name, \"from\": a, \"to\": b}, {\"tube\": name, \"from\": a, \
+                          \"to\": b}, {\"node\": id}, {\"xyz\": [x, y, z]} or {\"region\": name}"
                     .into(),
             });
+        }
+        if let Some(name) = &c.tube {
+            let (from, to) = Self::candidate_range(at, c)?;
+            let t = self.tube(&format!("{at}.tube"), name)?;
+            let rings = &self.tubes[t].rings;
+            return Ok(self.stations_in(t, from, to).into_iter().flat_map(|k| rings[k].iter().copied()).collect());
         }
         if let Some(name) = &c.region {
             return Ok(self.region(&format!("{at}.region"), name)?.to_vec());
@@ -2376,16 +2571,7 @@ impl<'a> Builder<'a> {
         let Some(name) = &c.line else {
             return Err(ModelError::Invalid { at: at.to_string(), message: "a line range needs \"line\"".into() });
         };
-        let from = c.from.unwrap_or(0.0);
-        let to = c.to.unwrap_or(1.0);
-        check_fraction(at, "from", from)?;
-        check_fraction(at, "to", to)?;
-        if from > to {
-            return Err(ModelError::Invalid {
-                at: at.to_string(),
-                message: format!("from = {from} is beyond to = {to}"),
-            });
-        }
+        let (from, to) = Self::candidate_range(at, c)?;
         let line = self.line(&format!("{at}.line"), name)?;
         let l = &self.lines[line];
         Ok((0..l.nodes.len())
@@ -2626,6 +2812,12 @@ fn add_connectivity_warnings(s: &mut Structure) {
     }
     for p in &s.point_masses {
         used[p.node] = true;
+    }
+    // An averaging link's reference follows its members (a ring insert's centre, a sensor point).
+    for l in &s.links {
+        if l.kind == LinkKind::Average && l.members.iter().any(|&m| used[m]) {
+            used[l.reference] = true;
+        }
     }
     let unused: Vec<String> = (0..s.nodes.len()).filter(|&i| !used[i]).map(|i| s.nodes[i].id.to_string()).collect();
     if !unused.is_empty() {

@@ -42,7 +42,8 @@ pub struct ConstraintReport {
     pub mass_limits_kg: Option<[f64; 2]>,
 }
 
-/// Tolerance band of absorber `index` of `links` (all absorbers coupled, the model's own
+/// Tolerance band of the absorber at `indices` of `links` (one link, or both directions of a
+/// lateral absorber) (all absorbers coupled, the model's own
 /// included): the relative drifts `[below, above]` (below ≤ 0 ≤ above) of its tuned frequency
 /// √(k/m) (k scaled by (1 + δ)², mass and damping kept) at which the benefit over `window` — the
 /// reduction in dB of the window's peak against `before` (m/N) — falls to half its designed value.
@@ -51,13 +52,15 @@ pub struct ConstraintReport {
 pub fn tolerance_band(
     sm: &StudyModel,
     links: &[AbsorberLink],
-    index: usize,
+    indices: &[usize],
     window: [f64; 2],
     before: f64,
 ) -> Option<[f64; 2]> {
     let benefit = |d: f64| -> f64 {
         let mut l = links.to_vec();
-        l[index].stiffness *= (1.0 + d).powi(2);
+        for &index in indices {
+            l[index].stiffness *= (1.0 + d).powi(2);
+        }
         20.0 * (before / sm.peak_estimate(window[0], window[1], &l)).log10()
     };
     let b0 = benefit(0.0);

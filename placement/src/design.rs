@@ -19,8 +19,8 @@
 //! 5. Each absorber's static sag, stroke and spring force at the stated excitation, worst-case
 //!    stroke, and tolerance band of its tuning are reported; so are the peaks before and after,
 //!    nominal and worst case, and whether the constraints are met.
-use antinode_mesh::{AbsorberDamping, DesignSpec, Objective, Structure, TargetSpec, distance};
-use antinode_solver::AbsorberLink;
+use antinode_mesh::{AbsorberDamping, AbsorberKind, DesignSpec, Objective, Structure, TargetSpec, distance};
+use antinode_solver::{AbsorberLink, ModeClass, ModeKind};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -87,9 +87,11 @@ pub struct DesignedAbsorber {
     /// Where and along which direction.
     #[serde(skip)]
     pub candidate: Candidate,
+    /// What it is (point, lateral, ring insert).
+    pub kind: AbsorberKind,
     /// Target mode number, from 1.
     pub target_mode: usize,
-    /// Moving mass, in kg.
+    /// Moving mass, in kg (one body: a lateral absorber's mass counted once).
     pub mass_kg: f64,
     /// Spring stiffness, in N/m.
     pub stiffness_n_per_m: f64,
@@ -97,7 +99,8 @@ pub struct DesignedAbsorber {
     pub damping_n_s_per_m: f64,
     /// Undamped natural frequency √(k/m)/2π, in Hz.
     pub tuned_frequency_hz: f64,
-    /// Mass ratio μ = m_a φ² on the target mode.
+    /// Mass ratio μ = m_a φ² on the target mode (φ² summed over both directions of a lateral
+    /// absorber).
     pub mass_ratio: f64,
     /// Effective (modal) mass of the target mode at the attachment, in kg.
     pub effective_mass_kg: f64,
@@ -225,7 +228,13 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
             Objective::Rms => sm.rms(lo, hi, links),
         }
     };
+    // The model's own absorbers, then one link per placed absorber (the second direction of a
+    // lateral absorber is a twin link of the same body, kept apart and coupled too).
     let mut links: Vec<AbsorberLink> = sm.existing.clone();
+    let mut twins: Vec<(usize, AbsorberLink)> = Vec::new();
+    let with_twins = |links: &[AbsorberLink], twins: &[(usize, AbsorberLink)]| -> Vec<AbsorberLink> {
+        links.iter().copied().chain(twins.iter().map(|t| t.1)).collect()
+    };
     let mut placed: Vec<(usize, usize)> = Vec::new(); // (candidate index, target index)
     let mut slots = Vec::new();
     for k in 0..spec.count {
@@ -234,12 +243,13 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         let r = t.mode - 1;
         let omega = 2.0 * std::f64::consts::PI * t.frequency_hz;
         let [lo, hi] = t.window_hz;
-        let base = window_value(lo, hi, &links);
-        let max_phi2 = sm.candidates.iter().map(|c| sm.model.coupling(c.coord, r).powi(2)).fold(0.0, f64::max);
+        let current = with_twins(&links, &twins);
+        let base = window_value(lo, hi, &current);
+        let max_phi2 = sm.candidates.iter().map(|c| c.mass_ratio_per_kg(&sm.model, r)).fold(0.0, f64::max);
         let eligible: Vec<usize> = (0..sm.candidates.len())
             .filter(|&ci| {
                 let c = &sm.candidates[ci];
-                let phi2 = sm.model.coupling(c.coord, r).powi(2);
+                let phi2 = c.mass_ratio_per_kg(&sm.model, r);
                 if phi2.is_nan() || phi2 <= 1e-9 * max_phi2 {
                     return false;
                 }
@@ -266,10 +276,8 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         // attainable reduction grows with μ); the others are not scored on the coupled model.
         let mut eligible = eligible;
         eligible.sort_by(|&a, &b| {
-            let (pa, pb) = (
-                sm.model.coupling(sm.candidates[a].coord, r).powi(2),
-                sm.model.coupling(sm.candidates[b].coord, r).powi(2),
-            );
+            let (pa, pb) =
+                (sm.candidates[a].mass_ratio_per_kg(&sm.model, r), sm.candidates[b].mass_ratio_per_kg(&sm.model, r));
             pb.total_cmp(&pa).then(a.cmp(&b))
         });
         eligible.truncate(PRESCREEN);
@@ -277,7 +285,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
             .par_iter()
             .map(|&ci| {
                 let c = &sm.candidates[ci];
-                let phi2 = sm.model.coupling(c.coord, r).powi(2);
+                let phi2 = c.mass_ratio_per_kg(&sm.model, r);
                 let mu = spec.mass_each * phi2;
                 let (stiffness, damping) = tune(mu).physical(spec.mass_each, omega);
                 let link = AbsorberLink {
@@ -286,8 +294,11 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
                     stiffness,
                     damping: AbsorberDamping::Viscous(damping),
                 };
-                let mut all = links.clone();
+                let mut all = current.clone();
                 all.push(link);
+                if let Some((_, coord)) = &c.second {
+                    all.push(AbsorberLink { coord: *coord, ..link });
+                }
                 let score = window_value(lo, hi, &all);
                 let row = RankedCandidate {
                     candidate: c.clone(),
@@ -302,6 +313,9 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         rows.sort_by(|a, b| a.1.score.total_cmp(&b.1.score).then(a.0.cmp(&b.0)));
         let (best, _, link) = rows[0].clone();
         placed.push((best, ti));
+        if let Some((_, coord)) = &sm.candidates[best].second {
+            twins.push((links.len() - sm.existing.len(), AbsorberLink { coord: *coord, ..link }));
+        }
         links.push(link);
         slots.push(Slot {
             absorber: k + 1,
@@ -315,7 +329,9 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     let cases = scenarios(&spec.uncertainty);
     let mut windows = vec![band];
     windows.extend(targets.iter().map(|t| t.window_hz));
-    let coords: Vec<usize> = links.iter().map(|l| l.coord).collect();
+    let n_new = start.len();
+    let twin_of: Vec<(usize, usize)> = twins.iter().map(|&(i, l)| (i, l.coord)).collect();
+    let coords: Vec<usize> = with_twins(&links, &twins).iter().map(|l| l.coord).collect();
     let f0 = sm.reference_force;
     let mass_split = match (spec.total_mass, spec.mass_limits) {
         (Some(t), Some(l)) if spec.count > 1 && l[1] > l[0] => Some((t, l)),
@@ -325,6 +341,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         ev: Evaluator::new(sm, &coords, n_existing, cases.clone(), windows),
         fixed: fixed.clone(),
         start: start.clone(),
+        twins: twin_of.clone(),
         mass_split,
         stroke_limit: spec.stroke_limit.map(|l| l / f0),
         objective,
@@ -333,7 +350,8 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         scale: 1.0,
     };
     let x0 = problem.start_point();
-    let start_values = problem.evaluate(&start);
+    let start_all = problem.links(&x0);
+    let start_values = problem.evaluate(&start_all);
     problem.scale = problem.objective_value(&start_values);
     let (coarse, mut problem) = run(problem, x0, 1.0, 80, 1e-6)?;
     problem.accurate = true;
@@ -375,7 +393,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
         }
     }
     problem.accurate = true;
-    let objective_ratio = problem.objective_value(&values) / problem.objective_value(&problem.evaluate(&start));
+    let objective_ratio = problem.objective_value(&values) / problem.objective_value(&problem.evaluate(&start_all));
     let refinement = RefinementInfo { iterations, objective_ratio };
     let refined = chosen.links;
     let mut all = sm.existing.clone();
@@ -402,7 +420,8 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     let worst_case_before = scenario_results.iter().map(|r| r.peak_before).fold(0.0, f64::max);
     let worst_case_after = scenario_results.iter().map(|r| r.peak_after).fold(0.0, f64::max);
     let worst_stroke_m = Problem::worst_stroke(&values) * f0;
-    let total_mass_kg: f64 = refined.iter().map(|l| l.mass).sum();
+    // One body per absorber: the twins' masses are not counted again.
+    let total_mass_kg: f64 = refined[..n_new].iter().map(|l| l.mass).sum();
     let message = match (spec.stroke_limit, best_achievable) {
         (Some(limit), Some(best)) => Some(format!(
             "the stroke limit {limit:.4e} m cannot be met: the best achievable worst-case stroke is {best:.4e} m \
@@ -427,22 +446,29 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
             let c = sm.candidates[ci].clone();
             let t = &targets[ti];
             let link = refined[i];
-            let phi2 = sm.model.coupling(c.coord, t.mode - 1).powi(2);
+            let phi2 = c.mass_ratio_per_kg(&sm.model, t.mode - 1);
+            // This absorber's links among `refined`: itself, and its twin if lateral.
+            let mine: Vec<usize> =
+                std::iter::once(i).chain(twin_of.iter().position(|&(p, _)| p == i).map(|k| n_new + k)).collect();
             let c_visc = match link.damping {
                 AbsorberDamping::Viscous(c) => c,
                 _ => 0.0,
             };
             let wa = link.natural_omega();
             let wj = 2.0 * std::f64::consts::PI * t.frequency_hz;
-            let s = &curves.stroke[n_existing + i];
-            let f = &curves.spring_force[n_existing + i];
-            let max_stroke = s.iter().map(|z| z.norm()).fold(0.0, f64::max);
-            let max_force = f.iter().map(|z| z.norm()).fold(0.0, f64::max);
+            // A lateral absorber's stroke and force: the larger of its two directions.
+            let largest = |curves: &[Vec<antinode_solver::Complex64>]| -> f64 {
+                mine.iter().flat_map(|&j| curves[n_existing + j].iter().map(|z| z.norm())).fold(0.0, f64::max)
+            };
+            let max_stroke = largest(&curves.stroke);
+            let max_force = largest(&curves.spring_force);
             let before_window = sm.peak_estimate(t.window_hz[0], t.window_hz[1], &sm.existing);
-            let tol = tolerance_band(sm, &all, n_existing + i, t.window_hz, before_window);
+            let indices: Vec<usize> = mine.iter().map(|&j| n_existing + j).collect();
+            let tol = tolerance_band(sm, &all, &indices, t.window_hz, before_window);
             let fa = wa / (2.0 * std::f64::consts::PI);
             DesignedAbsorber {
                 candidate: c,
+                kind: spec.kind,
                 target_mode: t.mode,
                 mass_kg: link.mass,
                 stiffness_n_per_m: link.stiffness,
@@ -462,7 +488,11 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
                 max_spring_force_n_per_n: max_force,
                 max_stroke_m: max_stroke * f0,
                 max_spring_force_n: max_force * f0,
-                worst_case_stroke_m: values.iter().map(|v| v.max_stroke[i]).fold(0.0, f64::max) * f0,
+                worst_case_stroke_m: values
+                    .iter()
+                    .flat_map(|v| mine.iter().map(move |&j| v.max_stroke[j]))
+                    .fold(0.0, f64::max)
+                    * f0,
                 static_sag_m: static_sag(link.mass, link.stiffness),
                 tolerance_band: tol,
                 tolerance_band_hz: tol.map(|[lo, hi]| [fa * (1.0 + lo), fa * (1.0 + hi)]),
@@ -551,4 +581,39 @@ fn window(sm: &StudyModel, r: usize) -> [f64; 2] {
     let hi = if above.is_finite() { (above * f).sqrt().min(1.5 * f) } else { 1.5 * f };
     let [blo, bhi] = sm.band_hz;
     [lo.max(blo), hi.min(bhi)]
+}
+
+/// Warnings for ring inserts aimed at modes they cannot reach: one per target mode that `classes`
+/// (the mode classification, by mode from 0) calls a shell mode with n ≥ 2 circumferential waves.
+///
+/// Why (common practice): a rigid insert on an averaging link moves with the ring's average
+/// motion. For a ring of N equally spaced nodes at angles θ_k carrying harmonic n, radial
+/// w cos nθ and tangential v sin nθ, the averaged translation perpendicular to the axis is
+/// (1/N) Σ_k (w cos nθ_k e_r(θ_k) + v sin nθ_k e_θ(θ_k)), whose components are sums of
+/// cos((n ± 1)θ_k) and sin((n ± 1)θ_k): zero unless n = 1. The averaged axial motion is
+/// (1/N) Σ_k u cos nθ_k, zero unless n = 0. So the insert couples only to n = 0 (axial) and n = 1
+/// (bending) motion, and its mass ratio on an ovaling mode is zero up to the mesh's asymmetry.
+pub fn ring_insert_warnings(spec: &DesignSpec, design: &Design, sm: &StudyModel, classes: &[ModeClass]) -> Vec<String> {
+    if spec.kind != AbsorberKind::RingInsert {
+        return Vec::new();
+    }
+    let mut out = Vec::new();
+    for t in &design.targets {
+        let Some(class) = classes.get(t.mode - 1) else { continue };
+        let n = class.n.unwrap_or(0);
+        if class.kind != ModeKind::Ovaling || n < 2 {
+            continue;
+        }
+        let best = sm.candidates.iter().map(|c| c.mass_ratio_per_kg(&sm.model, t.mode - 1)).fold(0.0, f64::max);
+        out.push(format!(
+            "target mode {} ({:.2} Hz) is a shell mode of class {} with n = {n} circumferential waves: a ring insert \
+             moves with the ring's average motion, which holds only n = 0 and n = 1 motion, so it hardly couples to \
+             this mode (largest mass ratio per kg over the candidate rings {best:.3e} 1/kg); use point absorbers on \
+             the wall for it",
+            t.mode,
+            t.frequency_hz,
+            class.kind.word()
+        ));
+    }
+    out
 }

@@ -24,7 +24,7 @@ pub mod tuning;
 
 pub use design::{
     AUTO_TARGET_SHARE, Design, DesignedAbsorber, RankedCandidate, RefinementInfo, ScenarioResult, Slot, TargetMode,
-    design,
+    design, ring_insert_warnings,
 };
 pub use error::PlacementError;
 pub use orders::{Crossing, OrderResponse, SpeedPeak, crossings};

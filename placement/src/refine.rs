@@ -36,6 +36,9 @@ pub(crate) struct Problem<'a> {
     pub ev: Evaluator<'a>,
     pub fixed: Vec<AbsorberLink>,
     pub start: Vec<AbsorberLink>,
+    /// Second directions of lateral absorbers: (index into `start`, coordinate). Each is a link of
+    /// the same mass, stiffness and damping as its body, appended after the `start` links.
+    pub twins: Vec<(usize, usize)>,
     /// Total budget and per-absorber limits when the split is free.
     pub mass_split: Option<(f64, [f64; 2])>,
     /// Stroke limit per newton of the reference force, in m/N.
@@ -90,8 +93,15 @@ impl Problem<'_> {
         }
     }
 
-    /// New absorbers at parameters `x`.
+    /// New absorbers at parameters `x`: one link per absorber, then the twins.
     pub fn links(&self, x: &[f64]) -> Vec<AbsorberLink> {
+        let mut out = self.bodies(x);
+        let twins: Vec<AbsorberLink> = self.twins.iter().map(|&(i, coord)| AbsorberLink { coord, ..out[i] }).collect();
+        out.extend(twins);
+        out
+    }
+
+    fn bodies(&self, x: &[f64]) -> Vec<AbsorberLink> {
         let m = self.masses(x);
         self.start
             .iter()

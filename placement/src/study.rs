@@ -3,7 +3,8 @@
 //! peaks with any set of absorbers coupled.
 
 use antinode_mesh::{
-    AbsorberDamping, AbsorberSpec, DirectionSpec, ElastomerSpec, OrderSpec, RandomSpec, Structure, StudySpec,
+    AbsorberDamping, AbsorberKind, AbsorberSpec, DirectionSpec, ElastomerSpec, OrderSpec, RandomSpec, Structure,
+    StudySpec,
 };
 use antinode_solver::{
     AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
@@ -24,6 +25,17 @@ pub struct Candidate {
     pub direction: DirectionSpec,
     /// Coordinate index in the modal model.
     pub coord: usize,
+    /// Lateral absorbers: the second direction and its coordinate (same node, same body).
+    pub second: Option<(DirectionSpec, usize)>,
+}
+
+impl Candidate {
+    /// Mass ratio per kilogram on mode `r`, in 1/kg: φ² along the direction, plus φ² along the
+    /// second direction of a lateral absorber (the two decouple for an isotropic spring).
+    pub fn mass_ratio_per_kg(&self, model: &ModalModel, r: usize) -> f64 {
+        let second = self.second.as_ref().map_or(0.0, |(_, c)| model.coupling(*c, r).powi(2));
+        model.coupling(self.coord, r).powi(2) + second
+    }
 }
 
 /// The study's excitation, responses and candidates on the modal model.
@@ -254,8 +266,22 @@ impl StudyModel {
         if with_candidates {
             if let Some(d) = &study.design {
                 for &node in &d.candidates {
+                    if d.kind == AbsorberKind::Lateral {
+                        // One body on an isotropic spring: both (perpendicular) directions at once.
+                        let (a, b) = (&d.directions[0], &d.directions[1]);
+                        let coord = coords.len();
+                        coords.push(coordinate(node, a));
+                        coords.push(coordinate(node, b));
+                        candidates.push(Candidate {
+                            node,
+                            direction: a.clone(),
+                            coord,
+                            second: Some((b.clone(), coord + 1)),
+                        });
+                        continue;
+                    }
                     for dir in &d.directions {
-                        candidates.push(Candidate { node, direction: dir.clone(), coord: coords.len() });
+                        candidates.push(Candidate { node, direction: dir.clone(), coord: coords.len(), second: None });
                         coords.push(coordinate(node, dir));
                     }
                 }
