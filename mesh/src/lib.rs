@@ -63,7 +63,8 @@ pub use model::{
     ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Link, LinkKind, LinkMembers, Location,
     MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId, NodesRegion, Objective,
     Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region,
-    ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Study, Support,
+    ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Stiffener, Study,
+    Support,
     Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
@@ -74,7 +75,8 @@ pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, ElementParts,
     LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec,
-    ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec,
+    ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes,
+    UncertaintySpec,
     bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
