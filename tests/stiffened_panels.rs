@@ -207,7 +207,11 @@ fn a_stiffener_off_the_uniform_grid_gets_its_own_grid_line_and_regions_still_sel
     // 10 × 8 uniform lines lie every 0.1 m; a rib at v = 0.33 from u = 0.25 to 0.75 needs lines
     // at v = 0.33 and at u = 0.25 and 0.75.
     let rib = r#", "stiffeners": [{"from": [0.25, 0.33], "to": [0.75, 0.33], "section": "rib", "material": "al"}]"#;
-    let json = panel([10, 8], rib, r#", "regions": {"edge": {"panel": "p", "edge": "y0"}, "at": {"panel": "p", "point": [0.5, 0.33]}}"#);
+    let json = panel(
+        [10, 8],
+        rib,
+        r#", "regions": {"edge": {"panel": "p", "edge": "y0"}, "at": {"panel": "p", "point": [0.5, 0.33]}}"#,
+    );
     let s = structure(&json);
     let p = &s.panels[0];
     assert!(p.grid[1].iter().any(|v| (v - 0.33).abs() < 1e-12), "a row at v = 0.33: {:?}", p.grid[1]);
@@ -227,7 +231,10 @@ fn a_stiffener_off_the_uniform_grid_gets_its_own_grid_line_and_regions_still_sel
     assert!((s.nodes[st.nodes[0]].xyz[0] - 0.25).abs() < 1e-12);
     assert!((s.nodes[st.nodes[st.nodes.len() - 1]].xyz[0] - 0.75).abs() < 1e-12);
     assert_eq!(s.regions["edge"].len(), p.divisions[0] + 1, "the edge region: one node per column");
-    assert_eq!(s.nodes[s.regions["at"][0]].xyz[1], s.nodes[st.nodes[0]].xyz[1], "the point region snaps to the rib's row");
+    assert_eq!(
+        s.nodes[s.regions["at"][0]].xyz[1], s.nodes[st.nodes[0]].xyz[1],
+        "the point region snaps to the rib's row"
+    );
     // The VTK part array covers the stiffener beams.
     let parts = s.element_parts();
     assert_eq!(parts.beams.len(), s.beams.len());

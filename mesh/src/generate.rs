@@ -729,7 +729,11 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
     }
     for (g, m) in members {
         let (i, j) = (g % (nx + 1), g / (nx + 1));
-        part.links.push(PartLink { name: format!("{} stiffener offset at grid ({i}, {j})", p.name), reference: g, members: m });
+        part.links.push(PartLink {
+            name: format!("{} stiffener offset at grid ({i}, {j})", p.name),
+            reference: g,
+            members: m,
+        });
     }
     Ok(PanelPart { part, divisions: [nx, ny], grid: [us, vs], origin, stiffeners })
 }

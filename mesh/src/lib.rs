@@ -64,8 +64,7 @@ pub use model::{
     MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId, NodesRegion, Objective,
     Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region,
     ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Stiffener, Study,
-    Support,
-    Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment, Uncertainty,
+    Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -76,8 +75,7 @@ pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, ElementParts,
     LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec,
     ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes,
-    UncertaintySpec,
-    bounding_diagonal, distance,
+    UncertaintySpec, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
 pub use vtk::{

@@ -16,9 +16,9 @@ use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
-    LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, StiffenerNodes, RandomSpec, ResponseSpec, ShellElement,
-    SpringElement, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal,
-    distance,
+    LinkSpec, MaterialProperties, MeshNodes, NodalMass, PanelNodes, PointForce, RandomSpec, ResponseSpec, ShellElement,
+    SpringElement, StiffenerNodes, Structure, StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec,
+    bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
