@@ -185,7 +185,11 @@ fn respond_example(dir: &Path, model: &Path, has_absorbers: bool) {
     } else {
         assert!(j["peak_after"].is_null(), "no absorbers: peak_after is null");
     }
-    assert_files(&out, &["response.csv", "response.json", "frf.svg"]);
+    if j["speed"].is_null() {
+        assert_files(&out, &["response.csv", "response.json", "frf.svg"]);
+    } else {
+        assert_files(&out, &["response.csv", "response.json", "frf.svg", "speed.csv", "speed.svg", "interference.svg"]);
+    }
 }
 
 /// `design --json --out`: the absorber contract, peak before and after, and the files. Returns the

@@ -273,3 +273,49 @@ fn every_catalogued_error_is_triggered_with_its_message_and_exit_code() {
         assert!(!dir.path().join("out").exists(), "out/ left behind by {what}");
     }
 }
+
+/// The panel-stiffener checks (classes `invalid` and `unknown-name`): each message names the
+/// stiffener's JSON path and what is allowed.
+#[test]
+fn stiffener_errors_name_their_json_path() {
+    let with = |stiffener: Value| {
+        edited(|m| {
+            m["panels"] = json!([{"name": "lid", "size": [0.4, 0.2], "thickness": 0.002, "material": "steel",
+                                   "origin": [0, 1, 0], "divisions": [4, 2], "stiffeners": [stiffener]}]);
+        })
+    };
+    let at = "panels[0] (\"lid\").stiffeners[0]";
+    let cases: [(Value, &[&str]); 5] = [
+        (
+            json!({"from": [0, 0.1], "to": [0.5, 0.1], "section": "bar", "material": "steel"}),
+            &[".to", "[0.5, 0.1] lies outside the panel", "0 <= u <= 0.4"],
+        ),
+        (
+            json!({"from": [0.1, 0.1], "to": [0.1, 0.1], "section": "bar", "material": "steel"}),
+            &["zero length", "give two different panel points"],
+        ),
+        (
+            json!({"from": [0, 0], "to": [0.4, 0.2], "section": "bar", "material": "steel"}),
+            &["runs diagonally", "parallel to an edge"],
+        ),
+        (
+            json!({"from": [0, 0.1], "to": [0.4, 0.1], "section": "nope", "material": "steel"}),
+            &[".section", "section \"nope\" is not defined"],
+        ),
+        (
+            json!({"from": [0, 0.1], "to": [0.4, 0.1], "section": "bar", "material": "wood"}),
+            &[".material", "material \"wood\" is not defined"],
+        ),
+    ];
+    for (stiffener, expect) in cases {
+        let dir = tempfile::tempdir().expect("a temporary folder");
+        std::fs::write(dir.path().join("model.json"), with(stiffener.clone())).expect("model written");
+        let out = Command::new(BIN).current_dir(dir.path()).args(["check", "model.json"]).output().expect("runs");
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(ERROR_EXIT_CODE), "{stiffener}: {stderr}");
+        assert!(stderr.starts_with("error: ") && stderr.contains(at), "{stiffener}: {stderr}");
+        for e in expect {
+            assert!(stderr.contains(e), "{stiffener}: {stderr}\nlacks {e:?}");
+        }
+    }
+}

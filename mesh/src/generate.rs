@@ -18,12 +18,20 @@
 //! between two segments takes the mean of their radii. Quadrilateral (j, k) has the nodes
 //! (j, k), (j, k + 1), (j + 1, k + 1), (j + 1, k): e_θ × a = e_r, so its normal points outward.
 //!
-//! Panel geometry: grid point (i, j) at origin + (a i/nx, b j/ny, 0); quadrilateral (i, j) has the
-//! nodes (i, j), (i + 1, j), (i + 1, j + 1), (i, j + 1), normal +Z.
+//! Panel geometry: grid point (i, j) at origin + (u_i, v_j, 0) with u_i = a i/nx, v_j = b j/ny;
+//! quadrilateral (i, j) has the nodes (i, j), (i + 1, j), (i + 1, j + 1), (i, j + 1), normal +Z.
+//! A stiffener needs grid lines on it and at its ends: where one is off the uniform grid, that side
+//! is cut at the stiffeners' coordinates and each piece divided into equal elements no longer than
+//! a/nx (b/ny). An offset stiffener's beams lie on nodes `offset` above the grid nodes along +Z, each
+//! a member of a rigid link whose reference is the grid node below: the rigid offset
+//! u_beam = u_plate + θ × (0, 0, e), θ_beam = θ_plate, eliminated exactly in the DOF map.
+
+use std::collections::BTreeMap;
 
 use crate::error::ModelError;
 use crate::model::{
-    Bearing, CircularTubeSection, DofValues, EdgePreset, EdgeSupport, EndPreset, Fidelity, Panel, Tube, TubeEnd,
+    Bearing, CircularTubeSection, DofValues, EdgePreset, EdgeSupport, EndPreset, Fidelity, Panel, Stiffener, Tube,
+    TubeEnd,
 };
 
 /// Smallest number of elements around a shell tube by default (16 facets keep the n = 2 ovaling
@@ -141,8 +149,20 @@ pub(crate) struct PanelPart {
     pub part: Part,
     /// Elements along X and Y.
     pub divisions: [usize; 2],
+    /// Panel coordinates of the grid lines: u of each column, v of each row, in m.
+    pub grid: [Vec<f64>; 2],
     /// Corner (0, 0), in m.
     pub origin: [f64; 3],
+    /// Stiffeners, in the order of the model.
+    pub stiffeners: Vec<PartStiffener>,
+}
+
+/// A generated stiffener: local nodes in order from its `from` to its `to`; each consecutive pair
+/// is one beam element.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct PartStiffener {
+    /// Local node numbers (grid nodes, or the offset nodes above them).
+    pub nodes: Vec<usize>,
 }
 
 fn invalid(at: String, message: String) -> ModelError {
@@ -578,7 +598,25 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
             [((a / h - 1e-9).ceil() as usize).max(1), ((b / h - 1e-9).ceil() as usize).max(1)]
         }
     };
-    let n_points = nx.saturating_add(1).saturating_mul(ny.saturating_add(1));
+    let tol = 1e-9 * (a + b);
+    let lines: Vec<StiffenerLine> = p
+        .stiffeners
+        .iter()
+        .enumerate()
+        .map(|(j, st)| stiffener_line(&format!("{at}.stiffeners[{j}]"), st, [a, b], tol))
+        .collect::<Result<_, _>>()?;
+    // Grid lines on every stiffener and at both its ends.
+    let (mut need_u, mut need_v) = (Vec::new(), Vec::new());
+    for l in &lines {
+        let (across, along) = if l.along_u { (&mut need_v, &mut need_u) } else { (&mut need_u, &mut need_v) };
+        across.push(l.across);
+        along.extend(l.ends);
+    }
+    let us = grid_lines(a, nx, &need_u, tol);
+    let vs = grid_lines(b, ny, &need_v, tol);
+    let [nx, ny] = [us.len() - 1, vs.len() - 1];
+    let n_offset: usize = lines.iter().filter(|l| l.offset != 0.0).map(|l| l.extent(&us, &vs)).sum();
+    let n_points = nx.saturating_add(1).saturating_mul(ny.saturating_add(1)).saturating_add(n_offset);
     if n_points > max_nodes {
         return Err(invalid(
             at.to_string(),
@@ -591,9 +629,8 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
     }
     let mut part = Part::default();
     let id = |i: usize, j: usize| j * (nx + 1) + i;
-    for j in 0..=ny {
-        for i in 0..=nx {
-            let (u, v) = (a * i as f64 / nx as f64, b * j as f64 / ny as f64);
+    for &v in &vs {
+        for &u in &us {
             part.points.push([origin[0] + u, origin[1] + v, origin[2]]);
         }
     }
@@ -607,15 +644,16 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
     }
     let edges = p.edges.clone().unwrap_or_default();
     let mut fixed = vec![[false; 6]; part.points.len()];
-    // Each edge: its name, its nodes, the length each node carries, and the rotation that w = 0
-    // along the edge forbids (about the in-plane axis normal to the edge: rx for x0/x1, ry for y0/y1).
-    let side = |n: usize, len: f64, k: usize| if k == 0 || k == n { 0.5 * len / n as f64 } else { len / n as f64 };
+    // Each edge: its name, its nodes, the length each node carries (half of each element beside it),
+    // and the rotation that w = 0 along the edge forbids (about the in-plane axis normal to the
+    // edge: rx for x0/x1, ry for y0/y1).
+    let share = |c: &[f64], k: usize| 0.5 * (c[(k + 1).min(c.len() - 1)] - c[k.saturating_sub(1)]);
     type EdgeNodes<'e> = (&'e str, &'e Option<EdgeSupport>, Vec<(usize, f64)>, usize);
     let list: [EdgeNodes<'_>; 4] = [
-        ("x0", &edges.x0, (0..=ny).map(|j| (id(0, j), side(ny, b, j))).collect(), 3),
-        ("x1", &edges.x1, (0..=ny).map(|j| (id(nx, j), side(ny, b, j))).collect(), 3),
-        ("y0", &edges.y0, (0..=nx).map(|i| (id(i, 0), side(nx, a, i))).collect(), 4),
-        ("y1", &edges.y1, (0..=nx).map(|i| (id(i, ny), side(nx, a, i))).collect(), 4),
+        ("x0", &edges.x0, (0..=ny).map(|j| (id(0, j), share(&vs, j))).collect(), 3),
+        ("x1", &edges.x1, (0..=ny).map(|j| (id(nx, j), share(&vs, j))).collect(), 3),
+        ("y0", &edges.y0, (0..=nx).map(|i| (id(i, 0), share(&us, i))).collect(), 4),
+        ("y1", &edges.y1, (0..=nx).map(|i| (id(i, ny), share(&us, i))).collect(), 4),
     ];
     for (name, support, nodes, rotation) in list {
         let eat = format!("{at}.edges.{name}");
@@ -642,7 +680,6 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
         }
     }
     part.fixed = fixed.into_iter().enumerate().filter(|(_, f)| f.iter().any(|&x| x)).collect();
-    let tol = 1e-9 * (a + b);
     for (m, mount) in p.mounts.iter().enumerate() {
         let mat = format!("{at}.mounts[{m}]");
         let [u, v] = mount.at;
@@ -655,9 +692,8 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
             ));
         }
         let k = stiffness(&format!("{mat}.stiffness"), &mount.stiffness)?;
-        let i = (u / a * nx as f64).round().clamp(0.0, nx as f64) as usize;
-        let j = (v / b * ny as f64).round().clamp(0.0, ny as f64) as usize;
-        let (gu, gv) = (a * i as f64 / nx as f64, b * j as f64 / ny as f64);
+        let (i, j) = (nearest(&us, u), nearest(&vs, v));
+        let (gu, gv) = (us[i], vs[j]);
         if ((gu - u).powi(2) + (gv - v).powi(2)).sqrt() > 1e-6 * (a + b) {
             part.warnings.push(format!(
                 "{mat}: [{u}, {v}] is between nodes; the mount acts at the nearest node, at [{gu:.4}, {gv:.4}]"
@@ -665,7 +701,127 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
         }
         part.springs.push(PartSpring { label: mat, node: id(i, j), stiffness: k });
     }
-    Ok(PanelPart { part, divisions: [nx, ny], origin })
+    // Stiffeners: the grid nodes on each line, or nodes `offset` above them (one per grid node and
+    // offset, shared by stiffeners that meet there), each grid node the reference of one rigid link.
+    let mut lifted: BTreeMap<(usize, u64), usize> = BTreeMap::new();
+    let mut members: BTreeMap<usize, Vec<usize>> = BTreeMap::new();
+    let mut stiffeners = Vec::with_capacity(lines.len());
+    for l in &lines {
+        let (along, across) = if l.along_u { (&us, &vs) } else { (&vs, &us) };
+        let (k0, k1, c) = (nearest(along, l.ends[0]), nearest(along, l.ends[1]), nearest(across, l.across));
+        let steps: Vec<usize> = if k0 <= k1 { (k0..=k1).collect() } else { (k1..=k0).rev().collect() };
+        let mut nodes = Vec::with_capacity(steps.len());
+        for k in steps {
+            let g = if l.along_u { id(k, c) } else { id(c, k) };
+            if l.offset == 0.0 {
+                nodes.push(g);
+                continue;
+            }
+            let n = *lifted.entry((g, l.offset.to_bits())).or_insert_with(|| {
+                let q = part.points[g];
+                part.points.push([q[0], q[1], q[2] + l.offset]);
+                members.entry(g).or_default().push(part.points.len() - 1);
+                part.points.len() - 1
+            });
+            nodes.push(n);
+        }
+        stiffeners.push(PartStiffener { nodes });
+    }
+    for (g, m) in members {
+        let (i, j) = (g % (nx + 1), g / (nx + 1));
+        part.links.push(PartLink {
+            name: format!("{} stiffener offset at grid ({i}, {j})", p.name),
+            reference: g,
+            members: m,
+        });
+    }
+    Ok(PanelPart { part, divisions: [nx, ny], grid: [us, vs], origin, stiffeners })
+}
+
+/// A stiffener's line, checked: along X (`along_u`) or along Y, at panel coordinate `across` of
+/// the other axis, from `ends[0]` to `ends[1]` of its own axis (in m), lifted by `offset` (in m).
+struct StiffenerLine {
+    along_u: bool,
+    across: f64,
+    ends: [f64; 2],
+    offset: f64,
+}
+
+impl StiffenerLine {
+    /// Number of grid nodes on the line.
+    fn extent(&self, us: &[f64], vs: &[f64]) -> usize {
+        let along = if self.along_u { us } else { vs };
+        nearest(along, self.ends[0]).abs_diff(nearest(along, self.ends[1])) + 1
+    }
+}
+
+/// Checks a stiffener of a panel `[a, b]`: both ends on the panel, a non-zero length, parallel
+/// to an edge, a finite offset.
+fn stiffener_line(at: &str, s: &Stiffener, [a, b]: [f64; 2], tol: f64) -> Result<StiffenerLine, ModelError> {
+    for (field, [u, v]) in [("from", s.from), ("to", s.to)] {
+        if !(u.is_finite() && v.is_finite() && (-tol..=a + tol).contains(&u) && (-tol..=b + tol).contains(&v)) {
+            return Err(invalid(
+                format!("{at}.{field}"),
+                format!(
+                    "[{u}, {v}] lies outside the panel; give panel coordinates with 0 <= u <= {a} and 0 <= v <= {b}, in m"
+                ),
+            ));
+        }
+    }
+    let [f, t] = [s.from, s.to].map(|[u, v]| [u.clamp(0.0, a), v.clamp(0.0, b)]);
+    let (du, dv) = ((t[0] - f[0]).abs(), (t[1] - f[1]).abs());
+    if du <= tol && dv <= tol {
+        return Err(invalid(
+            at.to_string(),
+            format!("from and to are the same point {:?} (zero length); give two different panel points", s.from),
+        ));
+    }
+    if du > tol && dv > tol {
+        return Err(invalid(
+            at.to_string(),
+            format!(
+                "runs diagonally from {:?} to {:?}; a stiffener must be parallel to an edge: give from and to the same \
+                 v (along X) or the same u (along Y); a diagonal rib needs explicit beams on nodes of its own",
+                s.from, s.to
+            ),
+        ));
+    }
+    let offset = s.offset.unwrap_or(0.0);
+    if !offset.is_finite() {
+        return Err(invalid(format!("{at}.offset"), format!("{offset} is not a finite distance, in m")));
+    }
+    Ok(if dv <= tol {
+        StiffenerLine { along_u: true, across: f[1], ends: [f[0], t[0]], offset }
+    } else {
+        StiffenerLine { along_u: false, across: f[0], ends: [f[1], t[1]], offset }
+    })
+}
+
+/// Grid coordinates along a side of length `len` (in m) meshed with `n` equal elements and a line at
+/// every value of `required`: the uniform grid `len·i/n` when every required value lies on it
+/// (within `tol`), otherwise the side cut at the required values and each piece divided into equal
+/// elements no longer than `len / n`.
+fn grid_lines(len: f64, n: usize, required: &[f64], tol: f64) -> Vec<f64> {
+    let uniform: Vec<f64> = (0..=n).map(|i| len * i as f64 / n as f64).collect();
+    if required.iter().all(|&r| uniform.iter().any(|g| (g - r).abs() <= tol)) {
+        return uniform;
+    }
+    let mut breaks: Vec<f64> = std::iter::once(0.0).chain(required.iter().copied()).chain([len]).collect();
+    breaks.sort_by(f64::total_cmp);
+    breaks.dedup_by(|x, y| (*x - *y).abs() <= tol);
+    if let Some(last) = breaks.last_mut() {
+        *last = len;
+    }
+    let h = len / n as f64;
+    let mut out = vec![0.0];
+    for w in breaks.windows(2) {
+        let c = (((w[1] - w[0]) / h - 1e-9).ceil() as usize).max(1);
+        out.extend((1..=c).map(|k| w[0] + (w[1] - w[0]) * k as f64 / c as f64));
+    }
+    if let Some(last) = out.last_mut() {
+        *last = len;
+    }
+    out
 }
 
 #[cfg(test)]
@@ -851,6 +1007,7 @@ mod tests {
                 ..PanelEdges::default()
             }),
             mounts: vec![Mount { at: [0.31, 0.1], stiffness: DofValues { uz: Some(5.0), ..DofValues::default() } }],
+            stiffeners: Vec::new(),
         };
         let Ok(pp) = panel_part("panels[0] (\"p\")", &p, LIMIT) else { panic!("valid panel") };
         assert_eq!(pp.part.points.len(), 15);

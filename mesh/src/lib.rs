@@ -64,8 +64,8 @@ pub use model::{
     LinkMembers, Location, MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId,
     NodesRegion, Objective, Order, Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection,
     RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion,
-    Spring, SpringEnd, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings, TubeRegion,
-    TubeSegment, Uncertainty,
+    Spring, SpringEnd, Stiffener, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings,
+    TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -75,8 +75,8 @@ pub use section::{SectionProperties, section_properties};
 pub use structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, ElementParts,
     LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce,
-    RandomSpec, ResponseSpec, RingCandidate, ShellElement, SpringElement, Structure, StructureNode, StudySpec,
-    TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
+    RandomSpec, ResponseSpec, RingCandidate, ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode,
+    StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
 pub use vtk::{

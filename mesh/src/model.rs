@@ -1099,6 +1099,36 @@ pub struct Panel {
     /// Elastic mounts: springs to ground at the nodes nearest the given panel points.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub mounts: Vec<Mount>,
+    /// Beam stiffeners along straight lines parallel to an edge; the mesh gets a grid line on each.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub stiffeners: Vec<Stiffener>,
+}
+
+/// A beam stiffener of a panel: beam elements on the panel's grid line from `from` to `to`,
+/// sharing the plate's nodes (offset 0) or on nodes `offset` away along the panel normal +Z, each
+/// tied to its plate node by a generated rigid link (an eccentric stiffener).
+///
+/// The beam's local y axis is the panel normal unless `orientation` says otherwise, so a
+/// rectangle's `height` is the depth of the rib.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Stiffener {
+    /// Start, panel coordinates `[u, v]`, in m, on the panel.
+    pub from: [f64; 2],
+    /// End, panel coordinates `[u, v]`, in m, on the panel; `from` and `to` share u (a stiffener
+    /// along Y) or v (along X): diagonal stiffeners are refused.
+    pub to: [f64; 2],
+    /// Section name.
+    pub section: String,
+    /// Material name.
+    pub material: String,
+    /// Orientation vector (see [`Beam::orientation`]). Default: global Z, the panel normal.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub orientation: Option<[f64; 3]>,
+    /// Distance of the beam's centroid from the plate mid-surface along +Z (negative: below), in m.
+    /// Default 0 (the beam on the plate's nodes).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub offset: Option<f64>,
 }
 
 /// Conditions on the four edges of a panel: `x0` (u = 0), `x1` (u = a), `y0` (v = 0), `y1` (v = b).

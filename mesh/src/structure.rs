@@ -325,9 +325,14 @@ pub struct PanelNodes {
     pub size: [f64; 2],
     /// Elements along X and Y.
     pub divisions: [usize; 2],
+    /// Panel coordinates of the grid lines: u of each column (nx + 1), v of each row (ny + 1), in m.
+    /// Equally spaced unless a stiffener needed a line off the uniform grid.
+    pub grid: [Vec<f64>; 2],
     /// Node indices, row by row: grid point (i, j) at position j (nx + 1) + i, at panel coordinates
-    /// (a i / nx, b j / ny).
+    /// (grid[0][i], grid[1][j]).
     pub nodes: Vec<usize>,
+    /// Beam stiffeners, in the order of the model.
+    pub stiffeners: Vec<StiffenerNodes>,
 }
 
 impl PanelNodes {
@@ -338,16 +343,25 @@ impl PanelNodes {
 
     /// Panel coordinates (u, v) of grid point (i, j), in m.
     pub fn uv(&self, i: usize, j: usize) -> [f64; 2] {
-        [self.size[0] * i as f64 / self.divisions[0] as f64, self.size[1] * j as f64 / self.divisions[1] as f64]
+        [self.grid[0][i], self.grid[1][j]]
     }
 
     /// The grid point nearest panel coordinates (u, v).
     pub fn nearest(&self, uv: [f64; 2]) -> (usize, usize) {
-        let [nx, ny] = self.divisions;
-        let i = (uv[0] / self.size[0] * nx as f64).round().clamp(0.0, nx as f64) as usize;
-        let j = (uv[1] / self.size[1] * ny as f64).round().clamp(0.0, ny as f64) as usize;
-        (i, j)
+        (crate::generate::nearest(&self.grid[0], uv[0]), crate::generate::nearest(&self.grid[1], uv[1]))
     }
+}
+
+/// A panel's beam stiffener, resolved.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StiffenerNodes {
+    /// Part name: `<panel> stiffener <k>`, k from 1 in the order of the model.
+    pub name: String,
+    /// Node indices in order from `from` to `to`: the plate's grid nodes, or for an offset
+    /// stiffener the nodes above them (each moved by a rigid link from the grid node below).
+    pub nodes: Vec<usize>,
+    /// Indices of its beam elements in [`Structure::beams`], in the same order.
+    pub beams: Vec<usize>,
 }
 
 /// An imported mesh's nodes.
@@ -705,7 +719,8 @@ impl Structure {
         moment.map(|v| v / total)
     }
 
-    /// The named part of every element: a beam of a line belongs to that line; a beam or shell
+    /// The named part of every element: a beam of a line belongs to that line, a beam of a panel
+    /// stiffener to that stiffener (parts named after the lines, tubes and panels); a beam or shell
     /// whose nodes all lie on a generated tube or panel belongs to it; other elements form the parts
     /// `beams` and `shells`.
     pub fn element_parts(&self) -> ElementParts {
@@ -725,6 +740,15 @@ impl Structure {
                 owner[n] = Some(p);
             }
         }
+        // Stiffeners after all panels, so that panel k stays part lines + tubes + k.
+        let mut stiffener_of: Vec<Option<usize>> = vec![None; self.beams.len()];
+        for st in self.panels.iter().flat_map(|pn| &pn.stiffeners) {
+            let p = names.len();
+            names.push(st.name.clone());
+            for &b in &st.beams {
+                stiffener_of[b] = Some(p);
+            }
+        }
         let common = |nodes: &[usize]| -> Option<usize> {
             let first = owner[*nodes.first()?]?;
             nodes.iter().all(|&n| owner[n] == Some(first)).then_some(first)
@@ -741,7 +765,8 @@ impl Structure {
         let beams: Vec<usize> = self
             .beams
             .iter()
-            .map(|b| b.line.or_else(|| common(&b.nodes)).unwrap_or_else(|| other(&mut names, "beams")))
+            .zip(&stiffener_of)
+            .map(|(b, st)| b.line.or(*st).or_else(|| common(&b.nodes)).unwrap_or_else(|| other(&mut names, "beams")))
             .collect();
         let shells: Vec<usize> =
             self.shells.iter().map(|e| common(&e.nodes).unwrap_or_else(|| other(&mut names, "shells"))).collect();

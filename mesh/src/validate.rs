@@ -17,8 +17,8 @@ use crate::section::section_properties;
 use crate::structure::{
     AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
     LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce, RandomSpec,
-    ResponseSpec, RingCandidate, ShellElement, SpringElement, Structure, StructureNode, StudySpec, TargetSpec,
-    TubeNodes, UncertaintySpec, bounding_diagonal, distance,
+    ResponseSpec, RingCandidate, ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode, StudySpec,
+    TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -625,15 +625,51 @@ impl<'a> Builder<'a> {
             }
             let named = format!("{at} (\"{}\")", p.name);
             let material = self.material(&format!("{named}.material"), &p.material)?;
+            // Check the stiffeners' references before generating anything.
+            let mut sections = Vec::with_capacity(p.stiffeners.len());
+            for (j, st) in p.stiffeners.iter().enumerate() {
+                let sat = format!("{named}.stiffeners[{j}]");
+                sections.push(self.section(&format!("{sat}.section"), &st.section)?);
+                self.material(&format!("{sat}.material"), &st.material)?;
+                if let Some(v) = st.orientation {
+                    check_point(&format!("{sat}.orientation"), v)?;
+                }
+            }
             let pp = panel_part(&named, p, self.nodes_left())?;
             let map = self.join(&named, &pp.part, &p.material, material)?;
+            let n_grid = (pp.divisions[0] + 1) * (pp.divisions[1] + 1);
+            let mut stiffeners = Vec::with_capacity(pp.stiffeners.len());
+            for (j, ((st, section), ps)) in p.stiffeners.iter().zip(sections).zip(&pp.stiffeners).enumerate() {
+                let sat = format!("{named}.stiffeners[{j}]");
+                let nodes: Vec<usize> = ps.nodes.iter().map(|&n| map[n]).collect();
+                let mut beams = Vec::with_capacity(nodes.len().saturating_sub(1));
+                for (k, w) in nodes.windows(2).enumerate() {
+                    let e = self.beam_element(BeamSource {
+                        id: ElementId(self.next_beam),
+                        label: format!("panel \"{}\" stiffener {} element {}", p.name, j + 1, k + 1),
+                        at: &sat,
+                        nodes: [w[0], w[1]],
+                        section_name: &st.section,
+                        section,
+                        material: &st.material,
+                        orientation: st.orientation,
+                        line: None,
+                    })?;
+                    self.next_beam += 1;
+                    beams.push(self.beams.len());
+                    self.beams.push(e);
+                }
+                stiffeners.push(StiffenerNodes { name: format!("{} stiffener {}", p.name, j + 1), nodes, beams });
+            }
             self.panel_index.insert(p.name.as_str(), self.panels.len());
             self.panels.push(PanelNodes {
                 name: p.name.clone(),
                 origin: pp.origin,
                 size: p.size,
                 divisions: pp.divisions,
-                nodes: map,
+                grid: pp.grid,
+                nodes: map[..n_grid].to_vec(),
+                stiffeners,
             });
         }
         Ok(())
@@ -895,9 +931,15 @@ impl<'a> Builder<'a> {
             inertia: m.inertia,
         }));
         for l in &part.links {
-            let mut members: Vec<usize> = l.members.iter().map(|&n| map[n]).collect();
+            // A member that merged with its reference (an offset within the merge tolerance) is the
+            // reference itself.
+            let mut members: Vec<usize> =
+                l.members.iter().map(|&n| map[n]).filter(|&n| n != map[l.reference]).collect();
             members.sort_unstable();
             members.dedup();
+            if members.is_empty() {
+                continue;
+            }
             self.links.push(LinkSpec {
                 name: l.name.clone(),
                 kind: LinkKind::Rigid,
@@ -948,7 +990,10 @@ impl<'a> Builder<'a> {
             }
             if let Some(&first) = self.link_index.get(&l.name) {
                 let first = if first < generated {
-                    format!("the generated link \"{}\" (a tube's end fitting)", self.links[first].name)
+                    format!(
+                        "the generated link \"{}\" (a tube's end fitting or a panel stiffener's offset)",
+                        self.links[first].name
+                    )
                 } else {
                     format!("links[{}]", first - generated)
                 };

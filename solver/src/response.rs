@@ -155,9 +155,13 @@ impl StructureDamping {
     }
 }
 
-/// A coordinate as weights on the free DOFs: u_c = Σ w q_i (three terms, or a link's).
+/// A coordinate as weights on the free DOFs: u_c = Σ w q_i (three terms, or a link's), on the
+/// node's translations, or on its rotations (DOFs 3–5) for a rotational coordinate.
 pub(crate) fn coordinate_taps(system: &System, co: &Coordinate) -> Vec<(usize, f64)> {
-    (0..3).flat_map(|k| system.dofs.terms(co.node, k).iter().map(move |&(i, w)| (i, w * co.direction[k]))).collect()
+    let first = if co.rotational { 3 } else { 0 };
+    (0..3)
+        .flat_map(|k| system.dofs.terms(co.node, first + k).iter().map(move |&(i, w)| (i, w * co.direction[k])))
+        .collect()
 }
 
 /// Modal data at a set of coordinates: everything a frequency response needs.
