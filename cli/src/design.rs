@@ -109,11 +109,54 @@ struct DesignReport {
     /// The design repeated at each of `trade_off_masses` (absent when none were asked for).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     trade_off: Vec<antinode_placement::tradeoff::TradeOffPoint>,
+    /// Final check of the design on the full model (see [`Verification`]).
+    verification: Verification,
     files: Vec<String>,
     caution: &'static str,
 }
 
+/// The design checked on the full model: the modes of the structure with the designed absorbers as
+/// DOFs, and a direct sparse complex solve ([`antinode_solver::DirectSolver`]) of the response at
+/// the peak and a few band frequencies, against the reduced (modal) model the design was made on.
+#[derive(Serialize)]
+struct Verification {
+    method: &'static str,
+    /// Natural frequencies of the full model with every absorber (model's and designed) in the band, in Hz.
+    full_model_modes_hz: Vec<f64>,
+    /// Per full-model mode: the nearest peak of the reduced coupled model's response curve, in Hz
+    /// (peaks can merge when the absorber damping is optimal, so this is indicative).
+    nearest_reduced_peak_hz: Vec<Option<f64>>,
+    /// Direct-solve points: response, stroke and residual differences per frequency.
+    points: Vec<antinode_placement::VerifyPoint>,
+    /// Largest ‖x_reduced − x_direct‖/‖x_direct‖ over the points.
+    max_relative_difference: f64,
+    /// Largest stroke difference over the largest stroke.
+    max_stroke_difference: f64,
+    /// Wall time of the verification and of the whole run up to it, in s.
+    verification_seconds: f64,
+    run_seconds: f64,
+}
+
+/// Check frequencies: the peaks before and after, the targets, and 6 geometric steps over the band.
+fn verification_frequencies(band: [f64; 2], extra: &[f64]) -> Vec<f64> {
+    let hi = band[1];
+    let lo = band[0].max(1e-3 * hi);
+    let n = 6;
+    let mut f: Vec<f64> = (0..n).map(|i| lo * (hi / lo).powf(i as f64 / (n - 1) as f64)).collect();
+    f.extend(extra.iter().copied().filter(|&x| x >= lo && x <= hi));
+    f.sort_by(f64::total_cmp);
+    f.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * b.abs());
+    f
+}
+
+/// Local maxima of the largest response over the points on the curve grid, in Hz.
+fn curve_peaks(freq: &[f64], curves: &[Vec<(f64, f64)>]) -> Vec<f64> {
+    let v: Vec<f64> = (0..freq.len()).map(|i| curves.iter().map(|c| c[i].1).fold(0.0, f64::max)).collect();
+    (1..v.len().saturating_sub(1)).filter(|&i| v[i] > v[i - 1] && v[i] >= v[i + 1]).map(|i| freq[i]).collect()
+}
+
 pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
+    let started = std::time::Instant::now();
     let l = load(path)?;
     let Some(study) = l.structure.study.clone() else {
         bail!("{}: the model has no study block", path.display());
@@ -241,6 +284,49 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         series.push(Series { label: format!("{n}, with designed absorbers"), points: &pa[i], dashed: false });
     }
     let markers: Vec<f64> = d.targets.iter().map(|t| t.frequency_hz).collect();
+    progress.stage("verification on the full model (modes with the absorbers, direct solve)");
+    let verify_start = std::time::Instant::now();
+    let run_seconds = verify_start.duration_since(started).as_secs_f64();
+    let full_system =
+        antinode_solver::assemble(&designed, antinode_solver::AssemblyOptions { include_absorbers: true })
+            .context("cannot assemble the designed model with its absorbers (please report this)")?;
+    let full_zero = antinode_solver::check_zero_energy(&designed, &full_system)
+        .context("zero-energy modes of the designed model (please report this)")?;
+    let params = antinode_solver::EigenParams {
+        zero_energy_modes: designed.expected_rigid_body_modes().map(|_| full_zero),
+        ..antinode_solver::EigenParams::default()
+    };
+    let full_modes = antinode_solver::solve_modes(
+        &full_system,
+        antinode_solver::ModeRequest::Band { low_hz: study.band_hz[0], high_hz: study.band_hz[1] },
+        &params,
+    )
+    .context("modes of the designed model with its absorbers")?;
+    let full_hz: Vec<f64> = (full_modes.n_zero_energy..full_modes.n_modes())
+        .map(|i| full_modes.frequency_hz(i))
+        .filter(|&f| f >= study.band_hz[0] && f <= study.band_hz[1])
+        .collect();
+    let reduced_peaks = curve_peaks(&sm.grid_hz, &pa);
+    let nearest: Vec<Option<f64>> = full_hz
+        .iter()
+        .map(|&f| reduced_peaks.iter().copied().min_by(|a, b| (a - f).abs().total_cmp(&(b - f).abs())))
+        .collect();
+    let mut extra = vec![d.after.frequency_hz, d.before.frequency_hz];
+    extra.extend(&markers);
+    extra.extend(&reduced_peaks);
+    let check_hz = verification_frequencies(study.band_hz, &extra);
+    let points = sm.verify(&system, &modes, &check_hz, &all).context("direct check of the design")?;
+    let verification = Verification {
+        method: "modes of K, M with the absorbers as DOFs; sparse LU of K(1+i eta) + i omega C - omega^2 M \
+                 with absorber DOFs at the peaks and 6 band frequencies (faer)",
+        full_model_modes_hz: full_hz,
+        nearest_reduced_peak_hz: nearest,
+        max_relative_difference: points.iter().map(|p| p.relative_difference).fold(0.0, f64::max),
+        max_stroke_difference: points.iter().map(|p| p.stroke_difference).fold(0.0, f64::max),
+        points,
+        verification_seconds: verify_start.elapsed().as_secs_f64(),
+        run_seconds,
+    };
     let svg = frf_svg(
         &format!("Receptance before and after: {}", s.title),
         "displacement per newton [m/N]",
@@ -318,6 +404,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
         constraints_met: d.constraints.constraints_met,
         constraints: d.constraints.clone(),
         trade_off: trade.clone(),
+        verification,
         files: [&model_path, &result_path, &svg_path, &csv_path, &vtu_path]
             .into_iter()
             .chain((!trade.is_empty()).then_some(&trade_path))
@@ -535,6 +622,35 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         }
         (None, None) => {}
     }
+    let v = &r.verification;
+    println!("verification on the full model (time in design-result.json): modes with the absorbers in the band:");
+    let rows = v
+        .full_model_modes_hz
+        .iter()
+        .zip(&v.nearest_reduced_peak_hz)
+        .map(|(f, p)| {
+            vec![
+                format!("{f:.4}"),
+                p.map_or("-".into(), |p| format!("{p:.4}")),
+                p.map_or("-".into(), |p| format!("{:+.2} %", 100.0 * (p - f) / f)),
+            ]
+        })
+        .collect();
+    println!("{}", table(&["full model [Hz]", "nearest reduced peak [Hz]", "difference"], rows));
+    let rows = v
+        .points
+        .iter()
+        .map(|p| {
+            vec![
+                format!("{:.4}", p.frequency_hz),
+                format!("{:.3e}", p.relative_difference),
+                format!("{:.3e}", p.stroke_difference),
+                format!("{:.1e}", p.direct_residual),
+            ]
+        })
+        .collect();
+    println!("direct solve against the reduced model:");
+    println!("{}", table(&["frequency [Hz]", "response diff", "stroke diff", "residual"], rows));
     for w in &r.warnings {
         println!("warning: {w}");
     }

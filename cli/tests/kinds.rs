@@ -101,6 +101,13 @@ fn lateral_design_is_one_body_with_two_directions() {
     assert!((result["constraints"]["total_mass_kg"].as_f64().expect("total") - m).abs() < 1e-12);
     assert_eq!(designed["absorbers"].as_array().map(Vec::len), Some(1));
     assert_eq!(designed["absorbers"][0]["second_direction"], "z");
+    // Final verification on the full model: the reduced (modal) coupled response against the
+    // direct sparse complex solve, the reference of tests/direct_response.rs, within its 1 %.
+    let v = &result["verification"];
+    let diff = v["max_relative_difference"].as_f64().expect("verification difference");
+    assert!(diff < 0.01, "reduced against direct: {diff}");
+    assert!(v["points"].as_array().is_some_and(|p| p.len() >= 6), "{v}");
+    assert!(v["full_model_modes_hz"].as_array().is_some_and(|m| !m.is_empty()), "{v}");
 }
 
 #[test]
