@@ -2,17 +2,7 @@
 //! acceleration.
 
 mod common;
-use antinode::placement::StudyModel;
-use antinode::solver::{EigenParams, ModeRequest, solve_modes};
 use common::*;
-
-fn study(json: &str, modes: usize) -> StudyModel {
-    let s = structure(json);
-    let sys = system(&s);
-    let sol = solve_modes(&sys, ModeRequest::Lowest(modes), &EigenParams::default()).unwrap_or_else(|e| panic!("{e}"));
-    let spec = s.study.clone().unwrap_or_else(|| panic!("study"));
-    StudyModel::build(&s, &sys, &sol, &spec, false).unwrap_or_else(|e| panic!("{e}"))
-}
 
 #[test]
 fn tip_moment_bends_a_cantilever_by_ml2_over_2ei() {
@@ -35,7 +25,7 @@ fn tip_moment_bends_a_cantilever_by_ml2_over_2ei() {
             "response_points": [{{"at": {{"line": "bar", "at": 1}}, "direction": "{along}"}}]}}
 }}"#
         );
-        let sm = study(&json, 4);
+        let sm = study_model(&json, 4);
         assert_rel(sm.response_at(0.05, &[]).0, l * l / (2.0 * ei), 1e-4, "tip deflection under a tip moment");
     }
 }

@@ -3,8 +3,7 @@
 //! whose order responses peak where k·n/60 meets the Euler–Bernoulli natural frequency.
 
 mod common;
-use antinode::placement::{Quantity, StudyModel, crossings};
-use antinode::solver::{EigenParams, ModeRequest, solve_modes};
+use antinode::placement::{Quantity, crossings};
 use common::*;
 
 /// Oscillator: 10 kg on 1e5 N/m (ω_n = 100 rad/s, f_n = 15.915 Hz), viscous ratio ζ.
@@ -27,21 +26,13 @@ fn oscillator(order: &str) -> String {
     )
 }
 
-fn study(json: &str, modes: usize) -> StudyModel {
-    let s = structure(json);
-    let sys = system(&s);
-    let sol = solve_modes(&sys, ModeRequest::Lowest(modes), &EigenParams::default()).unwrap_or_else(|e| panic!("{e}"));
-    let spec = s.study.clone().unwrap_or_else(|| panic!("study"));
-    StudyModel::build(&s, &sys, &sol, &spec, false).unwrap_or_else(|e| panic!("{e}"))
-}
-
 #[test]
 fn constant_force_order_peaks_at_the_damped_displacement_resonance() {
     // Single-DOF oscillator under a constant force F: |x| = (F/K)/√((1−r²)² + (2ζr)²) peaks at
     // r = √(1 − 2ζ²) with height (F/K)/(2ζ√(1 − ζ²)) (closed form; e.g. Thomson, Theory of Vibration
     // with Applications, ch. 3). Order 2: the peak speed is n = 60 f / 2.
     let f0 = 3.0;
-    let sm = study(&oscillator(&format!(r#", "amplitude": {f0}"#)), 1);
+    let sm = study_model(&oscillator(&format!(r#", "amplitude": {f0}"#)), 1);
     let rpm = sm.speed_grid();
     let r = &sm.sweep(&rpm, &[], Quantity::Receptance)[0];
     let r_peak = (1.0 - 2.0 * ZETA * ZETA).sqrt();
@@ -59,7 +50,7 @@ fn unbalance_order_peaks_above_the_natural_frequency() {
     // which peaks at r = 1/√(1 − 2ζ²) with height (F_ref/K)(ω_n/ω_ref)²/(2ζ√(1 − ζ²)) (closed form of
     // unbalance excitation; Thomson, ch. 3). n_ref = 900 rpm, order 2: ω_ref = 2·900·2π/60.
     let f_ref = 0.5;
-    let sm = study(&oscillator(&format!(r#", "amplitude": {f_ref}, "amplitude_law": "rpm_squared""#)), 1);
+    let sm = study_model(&oscillator(&format!(r#", "amplitude": {f_ref}, "amplitude_law": "rpm_squared""#)), 1);
     let rpm = sm.speed_grid();
     let r = &sm.sweep(&rpm, &[], Quantity::Receptance)[0];
     let r_peak = 1.0 / (1.0 - 2.0 * ZETA * ZETA).sqrt();
@@ -75,7 +66,7 @@ fn velocity_and_acceleration_sweeps_scale_by_omega() {
     // force the velocity peak of a single-DOF oscillator lies exactly at r = 1, height F/(2ζ√(KM))
     // (closed form: the mobility peak of viscous damping is at the undamped natural frequency).
     let f0 = 3.0;
-    let sm = study(&oscillator(&format!(r#", "amplitude": {f0}"#)), 1);
+    let sm = study_model(&oscillator(&format!(r#", "amplitude": {f0}"#)), 1);
     let rpm = sm.speed_grid();
     let x = &sm.sweep(&rpm, &[], Quantity::Receptance)[0];
     let v = &sm.sweep(&rpm, &[], Quantity::Mobility)[0];
@@ -93,7 +84,7 @@ fn velocity_and_acceleration_sweeps_scale_by_omega() {
 fn table_amplitude_times_receptance() {
     // The order response at n is F(n)·|H(k n / 60)| with F interpolated linearly in the table
     // (an identity between the speed and frequency paths of this program, not an outside value).
-    let sm = study(&oscillator(r#", "amplitude_table": [[200, 1.0], [500, 4.0], [900, 2.0]]"#), 1);
+    let sm = study_model(&oscillator(r#", "amplitude_table": [[200, 1.0], [500, 4.0], [900, 2.0]]"#), 1);
     let rpm = [200.0, 350.0, 500.0, 700.0, 900.0];
     let r = &sm.sweep(&rpm, &[], Quantity::Receptance)[0];
     for (i, (n, force)) in
@@ -130,7 +121,7 @@ fn beam_orders_peak_where_they_cross_the_natural_frequencies() {
             "response_points": [{{"at": {{"line": "bar", "at": 0.5}}, "direction": "z"}}]}}
 }}"#
     );
-    let sm = study(&json, 12);
+    let sm = study_model(&json, 12);
     let specs: Vec<_> = sm.orders.iter().map(|(_, o)| o.clone()).collect();
     let c: Vec<_> = crossings(&specs, &sm.natural_hz, sm.n_zero_energy, [1200.0, 3600.0])
         .into_iter()

@@ -267,6 +267,21 @@ fn max_amplitude(o: &OrderSpec, [r0, r1]: [f64; 2]) -> f64 {
     }
 }
 
+/// A harmonic load's `phase_deg` (default 0), checked finite, in degrees.
+fn phase_deg(at: &str, phase_deg: Option<f64>) -> Result<f64, ModelError> {
+    let phase = phase_deg.unwrap_or(0.0);
+    if phase.is_finite() {
+        Ok(phase)
+    } else {
+        Err(ModelError::OutOfRange {
+            at: at.to_string(),
+            field: "phase_deg",
+            value: phase,
+            allowed: "a finite angle in degrees".into(),
+        })
+    }
+}
+
 fn check_positive(at: &str, field: &'static str, value: f64) -> Result<(), ModelError> {
     if value.is_finite() && value > 0.0 {
         Ok(())
@@ -1836,15 +1851,7 @@ impl<'a> Builder<'a> {
             let at = format!("study.excitation[{i}]");
             let dir = direction(&format!("{at}.direction"), &f.direction)?;
             check_positive(&at, "amplitude", f.amplitude)?;
-            let phase = f.phase_deg.unwrap_or(0.0);
-            if !phase.is_finite() {
-                return Err(ModelError::OutOfRange {
-                    at,
-                    field: "phase_deg",
-                    value: phase,
-                    allowed: "a finite angle in degrees".into(),
-                });
-            }
+            let phase = phase_deg(&at, f.phase_deg)?;
             let moment = f.moment.unwrap_or(false);
             let nodes = if f.spread.unwrap_or(false) {
                 if f.at.region.is_none() {
@@ -1995,15 +2002,7 @@ impl<'a> Builder<'a> {
                         .into(),
                 });
             }
-            let phase = o.phase_deg.unwrap_or(0.0);
-            if !phase.is_finite() {
-                return Err(ModelError::OutOfRange {
-                    at,
-                    field: "phase_deg",
-                    value: phase,
-                    allowed: "a finite angle in degrees".into(),
-                });
-            }
+            let phase = phase_deg(&at, o.phase_deg)?;
             let amplitude = match (o.amplitude, &o.amplitude_table) {
                 (Some(_), Some(_)) | (None, None) => {
                     return Err(ModelError::Invalid {

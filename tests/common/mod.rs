@@ -28,6 +28,15 @@ pub fn lowest(s: &Structure, n: usize) -> (System, ModalSolution) {
     (sys, sol)
 }
 
+/// The study model of `json` on its lowest `modes` modes (with residual flexibility).
+pub fn study_model(json: &str, modes: usize) -> StudyModel {
+    let s = structure(json);
+    let sys = system(&s);
+    let sol = solve_modes(&sys, ModeRequest::Lowest(modes), &EigenParams::default()).unwrap_or_else(|e| panic!("{e}"));
+    let spec = s.study.clone().unwrap_or_else(|| panic!("the model has no study"));
+    StudyModel::build(&s, &sys, &sol, &spec, false).unwrap_or_else(|e| panic!("{e}"))
+}
+
 /// Relative difference |a − b| / |b|.
 pub fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
