@@ -6,7 +6,7 @@ use anyhow::Result;
 use serde::Serialize;
 
 use crate::output::{Xyz, print_json, table};
-use crate::pipeline::{assemble_checked, load};
+use crate::pipeline::{PLANNED_MODES, assemble_checked_for, load};
 
 #[derive(Serialize)]
 struct CheckReport {
@@ -34,6 +34,10 @@ struct CheckReport {
     absorber_mass_kg: f64,
     centre_of_mass: Xyz,
     zero_energy_modes: usize,
+    /// Estimated peak memory of the eigen solution for the default 20 modes, in bytes (parts in
+    /// `memory_estimate`).
+    memory_estimate_bytes: u64,
+    memory_estimate: antinode_solver::MemoryEstimate,
     warnings: Vec<String>,
 }
 
@@ -90,7 +94,7 @@ fn list(names: &[String]) -> String {
 
 pub fn run(path: &Path, json: bool) -> Result<()> {
     let l = load(path)?;
-    let (system, zero) = assemble_checked(&l, false)?;
+    let (system, zero, memory) = assemble_checked_for(&l, false, PLANNED_MODES)?;
     let s = &l.structure;
     let report = CheckReport {
         model: path.display().to_string(),
@@ -130,7 +134,9 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         absorber_mass_kg: s.absorber_mass(),
         centre_of_mass: s.centre_of_mass().into(),
         zero_energy_modes: zero,
-        warnings: s.warnings.clone(),
+        memory_estimate_bytes: memory.total_bytes,
+        memory_estimate: memory,
+        warnings: s.warnings.iter().cloned().chain(antinode_solver::conditioning_warnings(&system, Some(s))).collect(),
     };
     if json {
         return print_json(&report);
@@ -166,6 +172,7 @@ pub fn run(path: &Path, json: bool) -> Result<()> {
         vec!["total mass".into(), format!("{:.6} kg", report.total_mass_kg)],
         vec!["centre of mass".into(), format!("({:.6}, {:.6}, {:.6}) m", c.x, c.y, c.z)],
         vec!["zero-energy modes".into(), report.zero_energy_modes.to_string()],
+        vec![format!("memory for {} modes", report.memory_estimate.modes), report.memory_estimate.describe()],
     ];
     if let Some(q) = &report.shell_quality {
         rows.extend([

@@ -31,6 +31,18 @@ struct Cli {
     /// folder antinode wrote before is replaced without asking).
     #[arg(long, global = true)]
     force: bool,
+    /// Memory the eigen solution may use, in GiB (default: the memory available, MemAvailable in
+    /// /proc/meminfo). A model whose estimated need is larger is refused before it is factorized.
+    #[arg(long, global = true, value_name = "GIB", value_parser = parse_gib)]
+    memory_limit: Option<f64>,
+}
+
+/// A positive, finite number of GiB.
+fn parse_gib(s: &str) -> Result<f64, String> {
+    match s.parse::<f64>() {
+        Ok(v) if v.is_finite() && v > 0.0 && v < 1e9 => Ok(v),
+        _ => Err(format!("{s} is not a memory size: give a positive number of GiB, e.g. 8 or 0.5")),
+    }
 }
 
 #[derive(Subcommand)]
@@ -221,6 +233,9 @@ fn main() -> ExitCode {
     let cli = Cli::parse();
     if cli.force {
         pipeline::force_overwrite();
+    }
+    if let Some(gib) = cli.memory_limit {
+        pipeline::set_memory_limit(gib);
     }
     if let Some(n) = cli.threads {
         if let Err(e) = rayon::ThreadPoolBuilder::new().num_threads(usize::from(n)).build_global() {

@@ -10,14 +10,17 @@ use std::time::Instant;
 use antinode_mesh::{NodalScalars, NodalVectors, Structure};
 use antinode_solver::{
     EigenParams, InsightOptions, ModalSolution, ModeClass, ModeInsight, ModeKind, ModeRequest, RIGID_DIRECTIONS,
-    SolveStats, SturmCheck, System, mac_matrix, mass_ratio_maps, mode_insight, participation, sampled_shapes,
-    solve_modes, system_from_matrix_market, tube_profiles,
+    SolveStats, SturmCheck, System, conditioning_warnings, mac_matrix, mass_ratio_maps, memory_estimate, mode_insight,
+    participation, sampled_shapes, solve_modes, system_from_matrix_market, tube_profiles,
 };
 use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::output::{Six, Xyz, print_json, table};
-use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, confirm_zero_energy, eigen_params, load};
+use crate::pipeline::{
+    CAUTION, Outputs, Progress, assemble_checked, assemble_checked_for, confirm_zero_energy, eigen_params, load,
+    memory_guard,
+};
 use crate::plot;
 
 /// Where the matrices come from.
@@ -136,6 +139,10 @@ struct ModesReport {
     cumulative_mass_fraction: Option<Six>,
     sturm_check: SturmCheck,
     solver: Solver,
+    /// Estimated peak memory of the eigen solution before it ran, in bytes (parts in
+    /// `memory_estimate`; from the symbolic factorization).
+    memory_estimate_bytes: u64,
+    memory_estimate: antinode_solver::MemoryEstimate,
     files: Vec<String>,
     warnings: Vec<String>,
 }
@@ -207,17 +214,31 @@ pub fn run(o: &Options) -> Result<()> {
     let progress = Progress::new();
     progress.stage("assembling");
     let t0 = Instant::now();
-    let (loaded, system, name, mut params) = match &o.source {
+    // Modes the memory estimate is made for: the count asked for (a band's count is known only
+    // after a factorization, so a band without --count is estimated for the default count).
+    let planned = o.count.unwrap_or(DEFAULT_COUNT).min(MAX_COUNT);
+    let block = o.block_size.unwrap_or(EigenParams::default().block_size);
+    let (loaded, system, name, mut params, memory) = match &o.source {
         Source::Model(path) => {
             let l = load(path)?;
-            let (system, zero) = assemble_checked(&l, o.with_absorbers)?;
+            let (system, zero, memory) = assemble_checked_for(&l, o.with_absorbers, planned)?;
             let params = eigen_params(&l, zero);
-            (Some(l), system, path.clone(), params)
+            (Some(l), system, path.clone(), params, memory)
         }
         Source::Matrices { stiffness, mass } => {
             let system = system_from_matrix_market(stiffness, mass)?;
-            (None, system, stiffness.clone(), EigenParams::default())
+            let memory = memory_estimate(&system, planned, block);
+            (None, system, stiffness.clone(), EigenParams::default(), memory)
         }
+    };
+    // A model was checked for the default block size before its first factorization; matrices and
+    // another block size are checked here, before the eigen solution.
+    let memory = if loaded.is_none() || memory.block_size != block.max(1) {
+        let m = memory_estimate(&system, planned, block);
+        memory_guard(&m).with_context(|| format!("{} is too large for this machine", name.display()))?;
+        m
+    } else {
+        memory
     };
     let setup_seconds = t0.elapsed().as_secs_f64();
     let req = request(o, system.n_dofs())?;
@@ -346,6 +367,7 @@ pub fn run(o: &Options) -> Result<()> {
     if let Some(l) = &loaded {
         warnings.extend(l.structure.warnings.iter().cloned());
     }
+    warnings.extend(conditioning_warnings(&system, loaded.as_ref().map(|l| &l.structure)));
     let report = ModesReport {
         model: match &o.source {
             Source::Model(p) => p.display().to_string(),
@@ -377,6 +399,8 @@ pub fn run(o: &Options) -> Result<()> {
             analysis_seconds: system.analysis_seconds(),
             solve_seconds,
         },
+        memory_estimate_bytes: memory.total_bytes,
+        memory_estimate: memory,
         files: files.iter().map(|p| p.display().to_string()).collect(),
         warnings,
     };

@@ -2,12 +2,14 @@
 //! progress display.
 
 use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::Duration;
 
 use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate_in};
 use antinode_solver::{
-    AssemblyOptions, EigenParams, ModalSolution, ModeRequest, System, assemble, check_zero_energy, solve_modes,
+    AssemblyOptions, EigenParams, GIB, MemoryEstimate, ModalSolution, ModeRequest, System, assemble, check_zero_energy,
+    memory_estimate, solve_modes,
 };
 use anyhow::{Context, Result, bail};
 use indicatif::{ProgressBar, ProgressStyle};
@@ -35,12 +37,76 @@ pub fn load(path: &Path) -> Result<Loaded> {
     Ok(Loaded { path: path.to_path_buf(), model, structure })
 }
 
+/// Modes the memory estimate assumes when the count is not known before the solve (a band
+/// request, the study's modes): the default count of `modes`.
+pub const PLANNED_MODES: usize = 20;
+
 /// Assembles and checks zero-energy motions against the supports; returns the system and the count.
+/// Refuses a model whose eigen solution would need more memory than available (see
+/// [`memory_guard`]), with [`PLANNED_MODES`] modes, before any numeric factorization.
 pub fn assemble_checked(l: &Loaded, include_absorbers: bool) -> Result<(System, usize)> {
+    let (system, zero, _) = assemble_checked_for(l, include_absorbers, PLANNED_MODES)?;
+    Ok((system, zero))
+}
+
+/// As [`assemble_checked`], with the memory estimate made for `modes` modes; also returns it.
+pub fn assemble_checked_for(
+    l: &Loaded,
+    include_absorbers: bool,
+    modes: usize,
+) -> Result<(System, usize, MemoryEstimate)> {
     let system = assemble(&l.structure, AssemblyOptions { include_absorbers })
         .with_context(|| format!("cannot assemble {}", l.path.display()))?;
+    let estimate = memory_estimate(&system, modes, EigenParams::default().block_size);
+    memory_guard(&estimate).with_context(|| format!("{} is too large for this machine", l.path.display()))?;
     let zero = check_zero_energy(&l.structure, &system).with_context(|| format!("in {}", l.path.display()))?;
-    Ok((system, zero))
+    Ok((system, zero, estimate))
+}
+
+/// Set by `--memory-limit GIB`: the memory the solve may use, in bytes.
+static MEMORY_LIMIT: OnceLock<u64> = OnceLock::new();
+
+/// Sets the memory limit of [`memory_guard`] (`--memory-limit`), in GiB.
+pub fn set_memory_limit(gib: f64) {
+    let _ = MEMORY_LIMIT.set((gib * GIB) as u64);
+}
+
+/// Memory available to a new process: `MemAvailable` of /proc/meminfo, in bytes (`None` where the
+/// file is missing or unreadable, e.g. on systems other than Linux).
+fn memory_available() -> Option<u64> {
+    let text = std::fs::read_to_string("/proc/meminfo").ok()?;
+    let line = text.lines().find(|l| l.starts_with("MemAvailable:"))?;
+    let mut words = line.split_whitespace().skip(1);
+    let kib: u64 = words.next()?.parse().ok()?;
+    (words.next() == Some("kB")).then_some(kib * 1024)
+}
+
+/// Fails when `estimate` exceeds the memory limit (`--memory-limit`, else the memory available);
+/// where neither is known the check is skipped with a note on standard error.
+pub fn memory_guard(estimate: &MemoryEstimate) -> Result<()> {
+    let (limit, what) = match MEMORY_LIMIT.get() {
+        Some(&l) => (l, "the limit given by --memory-limit"),
+        None => match memory_available() {
+            Some(a) => (a, "the memory available (MemAvailable in /proc/meminfo)"),
+            None => {
+                eprintln!(
+                    "note: the memory available is unknown (/proc/meminfo unreadable); the memory estimate of {} is \
+                     not checked (give --memory-limit GIB to check it)",
+                    estimate.describe()
+                );
+                return Ok(());
+            }
+        },
+    };
+    if estimate.total_bytes > limit {
+        bail!(
+            "the eigen solution would need about {} but {what} is {:.3} GiB; coarsen the mesh (fewer nodes), ask for \
+             fewer modes, or give --memory-limit GIB if more memory is really free",
+            estimate.describe(),
+            limit as f64 / GIB
+        );
+    }
+    Ok(())
 }
 
 /// Eigensolver settings for a checked model: the zero-energy count `zero` from

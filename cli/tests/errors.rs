@@ -182,6 +182,28 @@ fn cases() -> Vec<Case> {
             expect: &["zero modes requested"],
         },
         Case {
+            class: "memory-limit",
+            model: edited(|_| {}),
+            command: &["--memory-limit", "1e-6", "modes", "model.json", "--count", "4"],
+            expect: &[
+                "model.json is too large for this machine",
+                "the eigen solution would need about",
+                "2 factors of",
+                "the limit given by --memory-limit is 0.000 GiB",
+                "coarsen the mesh",
+                "fewer modes",
+            ],
+        },
+        Case {
+            class: "not-finite",
+            model: edited(|m| {
+                m["sections"]["bar"] = json!({"properties": {"area": 1e300, "second_moment_y": 1e-9,
+                                               "second_moment_z": 1e-9, "torsion_constant": 1e-9}})
+            }),
+            command: check,
+            expect: &["non-finite value in the matrices of", "bar"],
+        },
+        Case {
             class: "matrix-file",
             model: "x\n".into(),
             command: &["modes", "--stiffness", "model.json", "--mass", "model.json"],

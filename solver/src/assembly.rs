@@ -338,6 +338,19 @@ impl System {
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass pattern: {e:?}") })?;
         let m = SparseColMat::new_from_argsort(m_pattern, &m_argsort, &m_vals)
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass values: {e:?}") })?;
+        // Finite element matrices can still sum to an infinity (two springs of 1e308 N/m on one DOF).
+        for (a, what) in [(&k, "stiffness"), (&m, "mass")] {
+            if let Some((i, j)) = first_non_finite(a) {
+                return Err(SolverError::NotFinite {
+                    what: format!(
+                        "the assembled {what} matrix at ({}, {}): the elements there sum to an infinity; check the \
+                         stiffnesses and masses at those DOFs",
+                        dofs.describe(i),
+                        dofs.describe(j)
+                    ),
+                });
+            }
+        }
         let m_in_k = positions_in(&k, &m);
         let t0 = std::time::Instant::now();
         let factorizer = Factorizer::new(&pattern)?;
@@ -480,6 +493,14 @@ impl System {
     }
 }
 
+/// Row and column of the first stored entry of `a` that is not finite (column by column).
+pub(crate) fn first_non_finite(a: &SparseColMat<usize, f64>) -> Option<(usize, usize)> {
+    let sym = a.symbolic();
+    (0..a.ncols()).find_map(|j| {
+        sym.col_range(j).zip(sym.row_idx_of_col_raw(j)).find(|&(p, _)| !a.val()[p].is_finite()).map(|(_, &i)| (i, j))
+    })
+}
+
 /// For each stored entry of `sub` (whose pattern lies inside `a`'s), its position in `a`'s values.
 fn positions_in(a: &SparseColMat<usize, f64>, sub: &SparseColMat<usize, f64>) -> Vec<usize> {
     let (sa, ss) = (a.symbolic(), sub.symbolic());
@@ -500,4 +521,37 @@ fn mul(a: &SparseColMat<usize, f64>, x: MatRef<'_, f64>) -> Mat<f64> {
     let mut y = Mat::<f64>::zeros(a.nrows(), x.ncols());
     faer::sparse::linalg::matmul::sparse_dense_matmul(y.as_mut(), Accum::Replace, a.as_ref(), x, 1.0, Par::Seq);
     y
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn no_geometry(n: usize) -> Geometry {
+        Geometry {
+            node_xyz: vec![],
+            absorber_directions: vec![],
+            base_inertia: Mat::zeros(n, 6),
+            rigid_mass: [[0.0; 6]; 6],
+        }
+    }
+
+    /// Two finite contributions of 1e308 to one entry sum to an infinity (IEEE 754 overflow): the
+    /// assembled matrix is refused and the entry named by its DOFs.
+    #[test]
+    fn an_assembled_infinity_is_named_by_its_dofs() {
+        let pairs = [Pair { row: 0, col: 0 }, Pair { row: 1, col: 1 }, Pair { row: 1, col: 1 }];
+        let err = System::from_entries(DofMap::rows(2), &pairs, &[1.0, 1e308, 1e308], &[1.0, 1.0, 1.0], no_geometry(2))
+            .err()
+            .expect("an overflowing sum is an error");
+        let text = err.to_string();
+        assert!(matches!(err, SolverError::NotFinite { .. }), "{text}");
+        assert!(text.contains("assembled stiffness matrix at (row 2, row 2)"), "{text}");
+        let err = System::from_entries(DofMap::rows(2), &pairs, &[1.0, 1.0, 1.0], &[1.0, 1e308, 1e308], no_geometry(2))
+            .err()
+            .expect("an overflowing mass is an error");
+        assert!(err.to_string().contains("assembled mass matrix at (row 2, row 2)"), "{err}");
+        // The same entries with finite sums assemble.
+        assert!(System::from_entries(DofMap::rows(2), &pairs, &[1.0, 1e307, 1e307], &[1.0; 3], no_geometry(2)).is_ok());
+    }
 }

@@ -120,6 +120,21 @@ impl Factorizer {
         self.symbolic.len_val()
     }
 
+    /// The fill-reducing order: entry k is the original index of the k-th eliminated DOF.
+    #[cfg(test)]
+    pub fn ordering(&self) -> Vec<usize> {
+        match self.symbolic.perm() {
+            Some(p) => p.arrays().0.to_vec(),
+            None => (0..self.symbolic.nrows()).collect(),
+        }
+    }
+
+    /// Whether the factor is stored column by column (no supernodes).
+    #[cfg(test)]
+    pub fn is_simplicial(&self) -> bool {
+        matches!(self.symbolic.raw(), SymbolicCholeskyRaw::Simplicial(_))
+    }
+
     /// Cholesky factor of `a` (positive definite). `Ok(None)` when a pivot is not positive.
     ///
     /// The factorizations take `a` by value and scale it in place, so no second copy of the matrix
@@ -264,6 +279,12 @@ fn scale_to_unit_diagonal(mut a: SparseColMat<usize, f64>) -> (SparseColMat<usiz
 }
 
 impl Factor {
+    /// Number of stored factor values (the measured size of the factor: 8 bytes each).
+    #[cfg(test)]
+    pub fn stored_values(&self) -> usize {
+        self.values.len()
+    }
+
     /// Solves A X = B in place for a block of right-hand sides.
     ///
     /// Supernodal LLᵀ and LDLᵀ factors use [`supernodal_solve`], a triangular solve for narrow blocks

@@ -15,6 +15,7 @@
 //!   (k* = k(1 + iη)).
 
 mod assembly;
+mod conditioning;
 mod direct;
 mod dofs;
 mod eigen;
@@ -23,11 +24,13 @@ mod error;
 mod factor;
 mod insight;
 mod matrices;
+mod memory;
 mod ordering;
 mod response;
 mod statics;
 
 pub use assembly::{AssemblyOptions, System, assemble};
+pub use conditioning::{RIGID_SPRING_RATIO, STIFFNESS_RATIO_WARNING, TINY_MASS_FRACTION, conditioning_warnings};
 pub use direct::{DirectResponse, DirectSolver, relative_difference};
 pub use dofs::{DofMap, DofOwner};
 pub use eigen::{
@@ -40,6 +43,7 @@ pub use insight::{
     mass_ratio_maps, mode_insight, pair_by_mac, sampled_shapes, tube_profiles,
 };
 pub use matrices::{system_from_matrix_market, write_matrix_market};
+pub use memory::{FACTORS_ALIVE, GIB, MemoryEstimate, memory_estimate};
 pub use num_complex::Complex64;
 pub use response::{
     AbsorberLink, Coordinate, CoupledResponse, Load, ModalDampingLaw, ModalModel, StructureDamping, absorber_forces,

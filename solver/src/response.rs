@@ -185,6 +185,33 @@ pub struct ModalModel {
     sigma: f64,
 }
 
+/// Fails on the first non-finite value of a modal model's data, naming the response coordinate
+/// (numbered from 1 in the order given) and the mode: mode shape values at the coordinates `phi`
+/// (coordinate-major, `nc` × `nm`), modal damping coefficients `viscous`, and the residual
+/// matrices `residual` and `residual_mass` (row-major `nc` × `nc`).
+fn check_modal_data(
+    nm: usize,
+    nc: usize,
+    phi: &[f64],
+    viscous: &[f64],
+    residual: &[f64],
+    residual_mass: &[f64],
+) -> Result<(), SolverError> {
+    let fail = |what: String| Err(SolverError::NotFinite { what: format!("the modal model for the response: {what}") });
+    if let Some(p) = phi.iter().position(|v| !v.is_finite()) {
+        return fail(format!("mode {} at coordinate {}", p % nm.max(1) + 1, p / nm.max(1) + 1));
+    }
+    if let Some(r) = viscous.iter().position(|v| !v.is_finite()) {
+        return fail(format!("the damping coefficient of mode {}", r + 1));
+    }
+    for (m, name) in [(residual, "residual flexibility"), (residual_mass, "second-order residual")] {
+        if let Some(p) = m.iter().position(|v| !v.is_finite()) {
+            return fail(format!("the {name} between coordinates {} and {}", p / nc.max(1) + 1, p % nc.max(1) + 1));
+        }
+    }
+    Ok(())
+}
+
 /// An absorber attached at a coordinate of a [`ModalModel`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AbsorberLink {
@@ -275,7 +302,7 @@ impl ModalModel {
                 phi[c * nm + r] = gather(shape, c);
             }
         }
-        let viscous = (0..nm)
+        let viscous: Vec<f64> = (0..nm)
             .map(|r| damping.modal_coefficient(r, solution.eigenvalues[r], r < solution.n_zero_energy))
             .collect();
         let mut residual = vec![0.0; nc * nc];
@@ -326,6 +353,7 @@ impl ModalModel {
                 }
             }
         }
+        check_modal_data(nm, nc, &phi, &viscous, &residual, &residual_mass)?;
         Ok(Self {
             eigenvalues: solution.eigenvalues.clone(),
             viscous,
@@ -642,6 +670,27 @@ pub fn refined_peaks(freq_hz: &[f64], values: &[f64], eval: impl Fn(f64) -> f64)
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The modal-model guard names the mode and coordinate of a NaN or an infinity in the gathered
+    /// shapes, the mode of a damping coefficient and the coordinates of a residual entry (crafted
+    /// data: valid input does not reach it).
+    #[test]
+    fn non_finite_modal_data_is_named() {
+        let (phi, viscous, res) = (vec![1.0; 6], vec![0.1; 3], vec![0.0; 4]);
+        assert!(check_modal_data(3, 2, &phi, &viscous, &res, &res).is_ok());
+        let mut bad = phi.clone();
+        bad[4] = f64::NAN;
+        let err = check_modal_data(3, 2, &bad, &viscous, &res, &res).expect_err("NaN shape value");
+        assert!(err.to_string().contains("mode 2 at coordinate 2"), "{err}");
+        let mut bad = viscous.clone();
+        bad[2] = f64::INFINITY;
+        let err = check_modal_data(3, 2, &phi, &bad, &res, &res).expect_err("infinite damping");
+        assert!(err.to_string().contains("damping coefficient of mode 3"), "{err}");
+        let mut bad = res.clone();
+        bad[1] = f64::NEG_INFINITY;
+        let err = check_modal_data(3, 2, &phi, &viscous, &res, &bad).expect_err("infinite residual");
+        assert!(err.to_string().contains("second-order residual between coordinates 1 and 2"), "{err}");
+    }
 
     #[test]
     fn modal_damping_laws() {

@@ -350,6 +350,7 @@ pub fn solve_modes(system: &System, request: ModeRequest, params: &EigenParams) 
         }
     }
     post::finish(system, &mut sol, eigenvalue_scale(system));
+    post::check_finite(system, &sol)?;
     Ok(sol)
 }
 
@@ -484,7 +485,7 @@ fn shift_invert_ritz(
 
 /// Basis sizes for a run that wants `need` pairs with block size `p`: the basis grows to about
 /// twice the wanted count (thick restarts keep 1.25 times it), never below 8 blocks.
-fn basis_sizes(need: usize, p: usize, boost: usize) -> (usize, usize) {
+pub(crate) fn basis_sizes(need: usize, p: usize, boost: usize) -> (usize, usize) {
     let keep = need + need / 4 + p;
     let max_dim = ((keep + keep.max(4 * p)) * boost).max(8 * p);
     (max_dim, keep * boost.min(2))

@@ -5,9 +5,35 @@ use faer::Mat;
 
 use super::ModalSolution;
 use crate::assembly::System;
+use crate::error::SolverError;
 
 /// Relative spread under which eigenvalues are treated as exactly repeated (symmetric parts).
 const REPEATED: f64 = 1e-10;
+
+/// Fails on the first mode (numbered from 1) whose eigenvalue, shape (named by DOF) or residual is
+/// not finite: a computed mode is never returned with a NaN or an infinity in it.
+pub(crate) fn check_finite(system: &System, sol: &ModalSolution) -> Result<(), SolverError> {
+    for c in 0..sol.shapes.ncols() {
+        let what = |part: String| SolverError::NotFinite {
+            what: format!(
+                "mode {} ({part}); the model's stiffness or mass is too ill-conditioned to solve: check the \
+                 stiffest springs and the smallest masses (see the warnings of `check`)",
+                c + 1
+            ),
+        };
+        let lambda = sol.eigenvalues[c];
+        if !lambda.is_finite() {
+            return Err(what(format!("eigenvalue {lambda}")));
+        }
+        if let Some(i) = (0..sol.shapes.nrows()).find(|&i| !sol.shapes[(i, c)].is_finite()) {
+            return Err(what(format!("its shape at {}", system.dof_map().describe(i))));
+        }
+        if let Some(r) = sol.residuals.get(c).filter(|r| !r.is_finite()) {
+            return Err(what(format!("its residual {r}")));
+        }
+    }
+    Ok(())
+}
 
 /// Mass-normalises, orients, signs and measures the modes of `sol` in place.
 ///
@@ -205,4 +231,62 @@ fn rigid_motions(system: &System) -> Mat<f64> {
 pub fn participation(system: &System, sol: &ModalSolution) -> Vec<[f64; 3]> {
     let l = sol.shapes().transpose() * system.base_inertia.as_ref();
     (0..sol.n_modes()).map(|i| [l[(i, 0)], l[(i, 1)], l[(i, 2)]]).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use faer::sparse::Pair;
+
+    use super::*;
+    use crate::assembly::Geometry;
+    use crate::dofs::DofMap;
+    use crate::eigen::{SolveStats, SturmCheck};
+
+    fn two_rows() -> System {
+        let pairs = [Pair { row: 0, col: 0 }, Pair { row: 1, col: 1 }];
+        let geometry = Geometry {
+            node_xyz: vec![],
+            absorber_directions: vec![],
+            base_inertia: Mat::zeros(2, 6),
+            rigid_mass: [[0.0; 6]; 6],
+        };
+        System::from_entries(DofMap::rows(2), &pairs, &[1.0, 4.0], &[1.0, 1.0], geometry).expect("system")
+    }
+
+    fn solution(eigenvalues: Vec<f64>, shapes: Mat<f64>) -> ModalSolution {
+        ModalSolution {
+            residuals: vec![0.0; eigenvalues.len()],
+            eigenvalues,
+            shapes,
+            orthogonality_error: 0.0,
+            sturm_check: SturmCheck {
+                shift_hz: 1.0,
+                count_expected: 2,
+                count_found: 2,
+                passed: true,
+                lower_shift_hz: None,
+            },
+            n_zero_energy: 0,
+            shift: 0.0,
+            stats: SolveStats::default(),
+        }
+    }
+
+    /// The guard passes finite modes and names the mode and the DOF of a NaN or an infinity
+    /// (crafted solutions: valid input does not reach it).
+    #[test]
+    fn non_finite_modes_are_named() {
+        let system = two_rows();
+        assert!(check_finite(&system, &solution(vec![1.0, 4.0], Mat::identity(2, 2))).is_ok());
+        let mut shapes = Mat::identity(2, 2);
+        shapes[(1, 1)] = f64::NAN;
+        let err = check_finite(&system, &solution(vec![1.0, 4.0], shapes)).expect_err("NaN in a shape");
+        assert!(err.to_string().contains("mode 2 (its shape at row 2)"), "{err}");
+        let err = check_finite(&system, &solution(vec![f64::INFINITY, 4.0], Mat::identity(2, 2)))
+            .expect_err("an infinite eigenvalue");
+        assert!(err.to_string().contains("mode 1 (eigenvalue inf)"), "{err}");
+        let mut sol = solution(vec![1.0, 4.0], Mat::identity(2, 2));
+        sol.residuals[0] = f64::NAN;
+        assert!(check_finite(&system, &sol).expect_err("a NaN residual").to_string().contains("mode 1 (its residual"));
+    }
 }
