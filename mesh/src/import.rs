@@ -96,6 +96,84 @@ fn import_quietly(path: &Path) -> std::thread::Result<Result<Vtk, vtkio::Error>>
     read
 }
 
+/// Keywords of legacy VTK header lines whose integers are counts of values that follow.
+const LEGACY_COUNT_KEYWORDS: [&str; 17] = [
+    "POINTS",
+    "CELLS",
+    "CELL_TYPES",
+    "POINT_DATA",
+    "CELL_DATA",
+    "VERTICES",
+    "LINES",
+    "POLYGONS",
+    "TRIANGLE_STRIPS",
+    "DIMENSIONS",
+    "LOOKUP_TABLE",
+    "FIELD",
+    "SCALARS",
+    "COLOR_SCALARS",
+    "TEXTURE_COORDINATES",
+    "OFFSETS",
+    "CONNECTIVITY",
+];
+
+/// Data type names of legacy VTK arrays (the last word of a `FIELD` array's header line).
+const LEGACY_TYPES: [&str; 12] = [
+    "bit",
+    "unsigned_char",
+    "char",
+    "unsigned_short",
+    "short",
+    "unsigned_int",
+    "int",
+    "unsigned_long",
+    "long",
+    "float",
+    "double",
+    "vtkIdType",
+];
+
+/// Checks the counts in the header lines of a legacy VTK file against the file's size before the
+/// file reaches vtkio. vtkio 0.6.3 reserves memory for as many values as a header announces, and a
+/// failed reservation aborts the process (no error, no unwinding: found by the `mesh` fuzz target
+/// with `POINTS 1942857945`). Every value takes at least one byte of the file, in ASCII and in
+/// binary, so a header announcing more values than the file has bytes is refused; the checked
+/// counts are each integer of a keyword line (3 per point for `POINTS`, the product for
+/// `DIMENSIONS`) and components × tuples of a `FIELD` array line. Returns the 1-based line and
+/// the message of the first bad count.
+fn check_legacy_counts(bytes: &[u8]) -> Result<(), (usize, String)> {
+    let size = bytes.len() as u128;
+    for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
+        // Binary payloads are not text; only short text lines can be headers.
+        let Some(line) = std::str::from_utf8(raw).ok().filter(|l| l.len() <= 256) else { continue };
+        let words: Vec<&str> = line.split_whitespace().collect();
+        let Some(&first) = words.first() else { continue };
+        let ints: Vec<u128> = words[1..].iter().filter_map(|w| w.parse::<u128>().ok()).collect();
+        let values = if LEGACY_COUNT_KEYWORDS.contains(&first) {
+            match first {
+                "POINTS" => ints.first().map(|n| n.saturating_mul(3)),
+                "DIMENSIONS" => Some(ints.iter().fold(1u128, |a, &n| a.saturating_mul(n))),
+                _ => ints.iter().copied().max(),
+            }
+        } else if words.len() == 4 && LEGACY_TYPES.contains(&words[3]) && ints.len() == 2 {
+            Some(ints[0].saturating_mul(ints[1]))
+        } else {
+            None
+        };
+        if let Some(n) = values.filter(|&n| n > size) {
+            return Err((
+                i + 1,
+                format!(
+                    "announces {n} values (`{}`) but the file has only {size} bytes; the header count is wrong \
+                     or the file is cut short",
+                    line.trim()
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
 pub(crate) fn read_mesh(
     path: &Path,
     property_array: &str,
@@ -115,6 +193,11 @@ pub(crate) fn read_mesh(
             "file",
             "does not exist or is not a file; give the path relative to the model file",
         ));
+    }
+    if ext.as_deref() == Some("vtk") {
+        let bytes = std::fs::read(path)
+            .map_err(|e| mesh_error(path, "file", format!("cannot be read ({e}); check the path and permissions")))?;
+        check_legacy_counts(&bytes).map_err(|(line, message)| mesh_error(path, format!("line {line}"), message))?;
     }
     let read = import_quietly(path);
     let vtk = match read {
@@ -617,6 +700,25 @@ mod tests {
         let p = write_vtu(&d, "zero.vtu", vtk);
         let e = read_mesh(&p, "property", Some("node_id")).err().map(|e| e.to_string()).unwrap_or_default();
         assert!(e.contains("point 1") && e.contains("node id 0"), "{e}");
+    }
+
+    /// Found by the `mesh` fuzz target (input kept in fuzz/regressions/mesh/): a legacy file whose
+    /// POINTS header announces 1942857945 points made vtkio reserve 46 GB and abort the process.
+    #[test]
+    fn a_huge_header_count_is_an_error_not_an_abort() {
+        let d = Dir::new("huge");
+        let input = std::fs::read(
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("../fuzz/regressions/mesh/legacy-huge-point-count"),
+        )
+        .expect("the committed fuzz input");
+        let p = d.0.join("huge.vtk");
+        std::fs::write(&p, &input[1..]).ok();
+        let e = err(&p, "property");
+        assert!(e.contains("line 5") && e.contains("announces 5828573835 values") && e.contains("167 bytes"), "{e}");
+        // Counts that fit pass the check, whatever the numbers in the data lines.
+        assert!(check_legacy_counts(b"POINTS 2 float\n0 0 5000000 1 1 1\n").is_ok());
+        assert_eq!(check_legacy_counts(b"x\nCELLS 1 900\n").map_err(|e| e.0), Err(2));
+        assert!(check_legacy_counts(b"FIELD FieldData 1\nprop 1 99 int\n1\n").is_err());
     }
 
     #[test]
