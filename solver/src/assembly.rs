@@ -244,9 +244,19 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         return Err(SolverError::NoFreeDofs);
     }
     let blocks = element_blocks(s, &dofs, options.include_absorbers)?;
-    let mut pairs = Vec::new();
-    let mut kv = Vec::new();
-    let mut mv = Vec::new();
+    // The entry lists are sized exactly up front: grown by doubling they held up to twice the
+    // entries, and a reallocation briefly holds the old and the new list (the peak memory of a
+    // whole run on shell models is set here).
+    let entries = n + blocks
+        .iter()
+        .map(|b| {
+            let w: usize = b.dofs.iter().map(|d| d.len()).sum();
+            w * w
+        })
+        .sum::<usize>();
+    let mut pairs = Vec::with_capacity(entries);
+    let mut kv = Vec::with_capacity(entries);
+    let mut mv = Vec::with_capacity(entries);
     let mut base_inertia = Mat::<f64>::zeros(n, 6);
     let mut rigid_mass = [[0.0; 6]; 6];
     for b in &blocks {
@@ -283,11 +293,14 @@ pub fn assemble(s: &Structure, options: AssemblyOptions) -> Result<System, Solve
         kv.push(0.0);
         mv.push(0.0);
     }
+    // The element matrices are no longer needed: free them before the matrices are built and
+    // analysed (the peak memory of the run).
+    drop(blocks);
     System::from_entries(
         dofs,
-        &pairs,
-        &kv,
-        &mv,
+        pairs,
+        kv,
+        mv,
         Geometry {
             node_xyz: s.nodes.iter().map(|p| p.xyz).collect(),
             absorber_directions: s.absorbers.iter().map(|a| a.direction.unit).collect(),
@@ -307,24 +320,27 @@ pub(crate) struct Geometry {
 
 impl System {
     /// Builds K and M from entries `(pairs[i], kv[i])` and `(pairs[i], mv[i])` (duplicates summed) on
-    /// their union pattern, analyses it, and checks that every DOF with stiffness has mass.
+    /// their union pattern, analyses it, and checks that every DOF with stiffness has mass. The
+    /// entry lists are consumed and freed before the symbolic analysis, which would otherwise run
+    /// beside them at the peak memory of the whole run.
     pub(crate) fn from_entries(
         dofs: DofMap,
-        pairs: &[Pair<usize, usize>],
-        kv: &[f64],
-        mv: &[f64],
+        pairs: Vec<Pair<usize, usize>>,
+        kv: Vec<f64>,
+        mv: Vec<f64>,
         geometry: Geometry,
     ) -> Result<System, SolverError> {
         let n = dofs.n_dofs();
-        let (pattern, argsort) = SymbolicSparseColMat::try_new_from_indices(n, n, pairs)
+        let (pattern, argsort) = SymbolicSparseColMat::try_new_from_indices(n, n, &pairs)
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("pattern: {e:?}") })?;
-        let k = SparseColMat::new_from_argsort(pattern.clone(), &argsort, kv)
+        let k = SparseColMat::new_from_argsort(pattern.clone(), &argsort, &kv)
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("stiffness values: {e:?}") })?;
+        drop((argsort, kv));
         // M on the pattern of its own non-zero entries (plus the diagonal), often several times
         // sparser than K's (no drilling or shear couplings), which makes products with M cheaper.
         let mut m_pairs = Vec::new();
         let mut m_vals = Vec::new();
-        for (pr, &v) in pairs.iter().zip(mv) {
+        for (pr, &v) in pairs.iter().zip(&mv) {
             if v != 0.0 {
                 m_pairs.push(*pr);
                 m_vals.push(v);
@@ -338,6 +354,7 @@ impl System {
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass pattern: {e:?}") })?;
         let m = SparseColMat::new_from_argsort(m_pattern, &m_argsort, &m_vals)
             .map_err(|e| SolverError::Factorization { shift: 0.0, detail: format!("mass values: {e:?}") })?;
+        drop((pairs, mv, m_pairs, m_vals, m_argsort));
         // Finite element matrices can still sum to an infinity (two springs of 1e308 N/m on one DOF).
         for (a, what) in [(&k, "stiffness"), (&m, "mass")] {
             if let Some((i, j)) = first_non_finite(a) {
@@ -540,18 +557,32 @@ mod tests {
     /// assembled matrix is refused and the entry named by its DOFs.
     #[test]
     fn an_assembled_infinity_is_named_by_its_dofs() {
-        let pairs = [Pair { row: 0, col: 0 }, Pair { row: 1, col: 1 }, Pair { row: 1, col: 1 }];
-        let err = System::from_entries(DofMap::rows(2), &pairs, &[1.0, 1e308, 1e308], &[1.0, 1.0, 1.0], no_geometry(2))
-            .err()
-            .expect("an overflowing sum is an error");
+        let pairs = vec![Pair { row: 0, col: 0 }, Pair { row: 1, col: 1 }, Pair { row: 1, col: 1 }];
+        let err = System::from_entries(
+            DofMap::rows(2),
+            pairs.clone(),
+            vec![1.0, 1e308, 1e308],
+            vec![1.0, 1.0, 1.0],
+            no_geometry(2),
+        )
+        .err()
+        .expect("an overflowing sum is an error");
         let text = err.to_string();
         assert!(matches!(err, SolverError::NotFinite { .. }), "{text}");
         assert!(text.contains("assembled stiffness matrix at (row 2, row 2)"), "{text}");
-        let err = System::from_entries(DofMap::rows(2), &pairs, &[1.0, 1.0, 1.0], &[1.0, 1e308, 1e308], no_geometry(2))
-            .err()
-            .expect("an overflowing mass is an error");
+        let err = System::from_entries(
+            DofMap::rows(2),
+            pairs.clone(),
+            vec![1.0, 1.0, 1.0],
+            vec![1.0, 1e308, 1e308],
+            no_geometry(2),
+        )
+        .err()
+        .expect("an overflowing mass is an error");
         assert!(err.to_string().contains("assembled mass matrix at (row 2, row 2)"), "{err}");
         // The same entries with finite sums assemble.
-        assert!(System::from_entries(DofMap::rows(2), &pairs, &[1.0, 1e307, 1e307], &[1.0; 3], no_geometry(2)).is_ok());
+        assert!(
+            System::from_entries(DofMap::rows(2), pairs, vec![1.0, 1e307, 1e307], vec![1.0; 3], no_geometry(2)).is_ok()
+        );
     }
 }

@@ -120,6 +120,22 @@ impl Factorizer {
         self.symbolic.len_val()
     }
 
+    /// Bytes of the scratch space one numeric factorization allocates beside its factor (faer's
+    /// stated requirement for the frontal update blocks, exact for the symbolic structure): the
+    /// largest over the LLᵀ, LDLᵀ and LBLᵀ variants made here.
+    pub fn factor_scratch_bytes(&self) -> usize {
+        let sym = &*self.symbolic;
+        [
+            sym.factorize_numeric_llt_scratch::<f64>(Par::Seq, Default::default()),
+            sym.factorize_numeric_ldlt_scratch::<f64>(Par::Seq, Default::default()),
+            sym.factorize_numeric_intranode_lblt_scratch::<f64>(Par::Seq, Default::default()),
+        ]
+        .iter()
+        .map(|r| r.size_bytes())
+        .max()
+        .unwrap_or(0)
+    }
+
     /// The fill-reducing order: entry k is the original index of the k-th eliminated DOF.
     #[cfg(test)]
     pub fn ordering(&self) -> Vec<usize> {

@@ -197,9 +197,9 @@ pub fn system_from_matrix_market(k_path: &Path, m_path: &Path) -> Result<System,
     drop((k, m));
     System::from_entries(
         DofMap::rows(n),
-        &pairs,
-        &kv,
-        &mv,
+        pairs,
+        kv,
+        mv,
         Geometry {
             node_xyz: Vec::new(),
             absorber_directions: Vec::new(),

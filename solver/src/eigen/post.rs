@@ -243,14 +243,14 @@ mod tests {
     use crate::eigen::{SolveStats, SturmCheck};
 
     fn two_rows() -> System {
-        let pairs = [Pair { row: 0, col: 0 }, Pair { row: 1, col: 1 }];
+        let pairs = vec![Pair { row: 0, col: 0 }, Pair { row: 1, col: 1 }];
         let geometry = Geometry {
             node_xyz: vec![],
             absorber_directions: vec![],
             base_inertia: Mat::zeros(2, 6),
             rigid_mass: [[0.0; 6]; 6],
         };
-        System::from_entries(DofMap::rows(2), &pairs, &[1.0, 4.0], &[1.0, 1.0], geometry).expect("system")
+        System::from_entries(DofMap::rows(2), pairs, vec![1.0, 4.0], vec![1.0, 1.0], geometry).expect("system")
     }
 
     fn solution(eigenvalues: Vec<f64>, shapes: Mat<f64>) -> ModalSolution {
