@@ -8,7 +8,7 @@ use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
 use crate::modes::mode_fields;
-use crate::output::{LocationOut, db, direction_json, print_json, table};
+use crate::output::{LocationOut, db, direction_json, print_json, print_measured, table};
 use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
 use crate::plot::{Series, frf_svg, xy_svg};
 use crate::respond::{curves_csv, magnitude_points};
@@ -109,6 +109,9 @@ struct DesignReport {
     /// The design repeated at each of `trade_off_masses` (absent when none were asked for).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     trade_off: Vec<antinode_placement::tradeoff::TradeOffPoint>,
+    /// With study.measured_frequencies: the computed and the measured (used) frequencies.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    measured_frequencies: Vec<antinode_placement::measured::MeasuredOverride>,
     /// Final check of the design on the full model (see [`Verification`]).
     verification: Verification,
     files: Vec<String>,
@@ -167,7 +170,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let progress = Progress::new();
     progress.stage("assembling");
     let (system, zero) = assemble_checked(&l, false)?;
-    let mut modes = study_modes(&l, &system, zero, &progress)?;
+    let (mut modes, measured_frequencies) = study_modes(&l, &system, zero, &progress)?;
     // Ring inserts: the mode classes tell which targets are ovaling modes (repeated pairs are
     // oriented by the classification first, so the study model sees the same shapes).
     let classes: Vec<antinode_solver::ModeClass> = if spec.kind == AbsorberKind::RingInsert {
@@ -181,7 +184,15 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     let sm = StudyModel::build(&l.structure, &system, &modes, &study, true)
         .with_context(|| format!("in {}", path.display()))?;
     let d = design(&sm, &spec, &l.structure).with_context(|| format!("design for {}", path.display()))?;
-    let warnings = antinode_placement::ring_insert_warnings(&spec, &d, &sm, &classes);
+    let mut warnings = antinode_placement::ring_insert_warnings(&spec, &d, &sm, &classes);
+    if !measured_frequencies.is_empty() {
+        warnings.push(format!(
+            "the design is tuned to {} measured frequenc{}; the full-model verification knows only the computed \
+             frequencies, so it differs from the design near those modes by the frequency change",
+            measured_frequencies.len(),
+            if measured_frequencies.len() == 1 { "y" } else { "ies" }
+        ));
+    }
     if !spec.trade_off_masses.is_empty() {
         progress.stage("trade-off: designing at each total mass");
     }
@@ -411,6 +422,7 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
             .map(|p| p.display().to_string())
             .collect(),
         caution: CAUTION,
+        measured_frequencies,
     };
     let fields = mode_fields(&system, &modes);
     outputs.write_vtu("design.vtu", &designed, &fields)?;
@@ -465,6 +477,7 @@ fn print_human(r: &DesignReport, mass_each: f64) {
         "{}: band {}-{} Hz, {} modes kept, {} candidate attachments (node x direction), objective {:?}",
         r.model, r.band_hz[0], r.band_hz[1], r.modes_kept, r.candidates_evaluated, r.objective
     );
+    print_measured(&r.measured_frequencies);
     let trows = r
         .targets
         .iter()

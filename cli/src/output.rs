@@ -85,3 +85,23 @@ pub fn print_json<T: Serialize>(v: &T) -> anyhow::Result<()> {
 pub fn db(after: f64, before: f64) -> f64 {
     20.0 * (after / before).log10()
 }
+
+/// Prints the measured frequencies that replaced computed ones (nothing when there are none).
+pub fn print_measured(m: &[antinode_placement::measured::MeasuredOverride]) {
+    if m.is_empty() {
+        return;
+    }
+    let rows = m
+        .iter()
+        .map(|o| {
+            vec![
+                o.mode.to_string(),
+                format!("{:.4}", o.model_hz),
+                format!("{:.4}", o.measured_hz),
+                format!("{:+.2}", 100.0 * o.relative_change),
+            ]
+        })
+        .collect();
+    println!("measured frequencies used in place of the computed ones (shapes kept):");
+    println!("{}", table(&["mode", "model [Hz]", "measured [Hz]", "change [%]"], rows));
+}

@@ -7,6 +7,7 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::Duration;
 
 use antinode_mesh::{Model, NodalVectors, Structure, load_model, validate_in};
+use antinode_placement::measured::{MeasuredOverride, apply_measured};
 use antinode_solver::{
     AssemblyOptions, EigenParams, GIB, MemoryEstimate, ModalSolution, ModeRequest, System, assemble, check_zero_energy,
     memory_estimate, solve_modes,
@@ -121,8 +122,15 @@ pub fn confirm_zero_energy(l: &Loaded, system: &System, sol: &ModalSolution) -> 
     antinode_solver::confirm_zero_energy(&l.structure, system, sol).with_context(|| format!("in {}", l.path.display()))
 }
 
-/// Modes for the study: every mode up to the study's `max_mode_frequency_hz`.
-pub fn study_modes(l: &Loaded, system: &System, zero: usize, progress: &Progress) -> Result<ModalSolution> {
+/// Modes for the study: every mode up to the study's `max_mode_frequency_hz`, with the study's
+/// measured frequencies in place of the computed ones (returned as applied; their warnings are
+/// printed).
+pub fn study_modes(
+    l: &Loaded,
+    system: &System,
+    zero: usize,
+    progress: &Progress,
+) -> Result<(ModalSolution, Vec<MeasuredOverride>)> {
     let Some(study) = &l.structure.study else {
         bail!("{}: the model has no study block (band, excitation, response points)", l.path.display());
     };
@@ -134,7 +142,13 @@ pub fn study_modes(l: &Loaded, system: &System, zero: usize, progress: &Progress
     )
     .with_context(|| format!("modes of {}", l.path.display()))?;
     confirm_zero_energy(l, system, &sol)?;
-    Ok(sol)
+    let mut sol = sol;
+    let (applied, warnings) =
+        apply_measured(&mut sol, &study.measured_frequencies).with_context(|| format!("in {}", l.path.display()))?;
+    for w in &warnings {
+        progress.warn(w);
+    }
+    Ok((sol, applied))
 }
 
 /// A file marking a folder as holding this program's results: later runs may replace them.
@@ -297,6 +311,11 @@ impl Progress {
     /// Shows what is being done.
     pub fn stage(&self, what: &str) {
         self.0.set_message(what.to_string());
+    }
+
+    /// Prints a warning to standard error above the spinner.
+    pub fn warn(&self, what: &str) {
+        self.0.suspend(|| eprintln!("warning: {what}"));
     }
 }
 

@@ -8,7 +8,7 @@ use antinode_solver::{AbsorberLink, InsightOptions, ModalSolution, ModeKind, Sys
 use anyhow::{Context, Result, bail};
 use serde::Serialize;
 
-use crate::output::{print_json, table};
+use crate::output::{print_json, print_measured, table};
 use crate::pipeline::{CAUTION, Outputs, Progress, assemble_checked, load, study_modes};
 use crate::plot::{Series, curve_svg, frf_svg, interference_svg};
 
@@ -176,6 +176,9 @@ struct RespondReport {
     /// With study.orders: the response versus speed, crossings and critical-speed margin.
     #[serde(skip_serializing_if = "Option::is_none")]
     speed: Option<SpeedOut>,
+    /// With study.measured_frequencies: the computed and the measured (used) frequencies.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    measured_frequencies: Vec<antinode_placement::measured::MeasuredOverride>,
 }
 
 /// Check frequencies: `n` geometric steps over the band, the natural frequencies in it and the
@@ -498,7 +501,7 @@ pub fn run(o: &Options) -> Result<()> {
     let progress = Progress::new();
     progress.stage("assembling");
     let (system, zero) = assemble_checked(&l, false)?;
-    let modes = study_modes(&l, &system, zero, &progress)?;
+    let (modes, measured_frequencies) = study_modes(&l, &system, zero, &progress)?;
     progress.stage("response");
     let mut sm = StudyModel::build(&l.structure, &system, &modes, &study, false)
         .with_context(|| format!("in {}", path.display()))?;
@@ -607,6 +610,7 @@ pub fn run(o: &Options) -> Result<()> {
         }),
         quantity: q,
         speed: speed.as_ref().map(|s| s.report.clone()),
+        measured_frequencies,
     };
     outputs.write("response.csv", curves_csv_in(&sm, &before, after.as_ref(), &names, q).as_bytes())?;
     if let Some(sp) = &speed {
@@ -625,6 +629,7 @@ pub fn run(o: &Options) -> Result<()> {
         "{}: band {}-{} Hz, {} modes kept (up to {:.1} Hz) with residual flexibility",
         report.model, study.band_hz[0], study.band_hz[1], report.modes_kept, study.max_mode_frequency_hz
     );
+    print_measured(&report.measured_frequencies);
     let rows = |p: &[PeakOut]| -> Vec<Vec<String>> {
         p.iter().map(|k| vec![format!("{:.4}", k.frequency_hz), format!("{:.4e}", k.value), k.point.clone()]).collect()
     };

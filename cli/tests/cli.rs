@@ -2112,3 +2112,58 @@ fn bad_speed_ranges_and_orders_are_rejected() {
         &["study.orders[0]", "amplitude (with amplitude_law) or as amplitude_table"],
     );
 }
+
+#[test]
+fn design_and_respond_use_a_measured_frequency() {
+    // Mode 1 of the base model is given a test value 5 % above the computed one: both reports list
+    // the override, the design's target mode carries the measured frequency, and the text output
+    // shows the table.
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    std::fs::write(&model, pretty(&base())).expect("model written");
+    let out = dir.join("out");
+    let plain =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    plain.assert_success("design without measured frequencies");
+    let target = &plain.json()["targets"][0];
+    let mode = target["mode"].as_u64().expect("targets[0].mode");
+    let f_model = num(&target["frequency_hz"], "targets[0].frequency_hz");
+    let mut m = base();
+    m["study"]["measured_frequencies"] = json!([{"mode": mode, "frequency_hz": 1.05 * f_model}]);
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let r =
+        antinode(dir, [OsStr::new("design"), model.as_os_str(), "--json".as_ref(), "--out".as_ref(), out.as_os_str()]);
+    r.assert_success("design with a measured frequency");
+    let j = r.json();
+    let o = &j["measured_frequencies"][0];
+    assert_eq!(o["mode"].as_u64(), Some(mode));
+    assert!((num(&o["model_hz"], "model_hz") / f_model - 1.0).abs() < 1e-12);
+    assert!((num(&o["relative_change"], "relative_change") - 0.05).abs() < 1e-12);
+    let t = j["targets"].as_array().expect("targets").iter().find(|t| t["mode"].as_u64() == Some(mode));
+    let f_used = t.map(|t| num(&t["frequency_hz"], "frequency_hz")).unwrap_or_default();
+    assert!((f_used / (1.05 * f_model) - 1.0).abs() < 1e-12, "target at the measured frequency: {f_used}");
+    let text = antinode(dir, [OsStr::new("respond"), model.as_os_str(), "--out".as_ref(), out.as_os_str()]);
+    text.assert_success("respond with a measured frequency");
+    assert!(text.stdout.contains("measured frequencies used in place of the computed ones"), "{}", text.stdout);
+    assert!(text.stdout.contains("+5.00"), "{}", text.stdout);
+}
+
+#[test]
+fn rejects_bad_measured_frequency_entries() {
+    assert_edit_rejected(
+        |m| m["study"]["measured_frequencies"] = json!([{"mode": 0, "frequency_hz": 30}]),
+        &["study.measured_frequencies[0].mode", "numbered from 1"],
+    );
+    assert_edit_rejected(
+        |m| {
+            m["study"]["measured_frequencies"] =
+                json!([{"mode": 1, "frequency_hz": 30}, {"mode": 1, "frequency_hz": 31}])
+        },
+        &["study.measured_frequencies[1].mode", "given twice"],
+    );
+    assert_edit_rejected(
+        |m| m["study"]["measured_frequencies"] = json!([{"mode": 1, "frequency_hz": -3}]),
+        &["study.measured_frequencies[0]", "frequency_hz"],
+    );
+}

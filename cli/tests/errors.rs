@@ -226,6 +226,12 @@ fn cases() -> Vec<Case> {
             expect: &["absorber design", "target mode 50 is not among the", "computed modes"],
         },
         Case {
+            class: "measured-frequency",
+            model: edited(|m| m["study"]["measured_frequencies"] = json!([{"mode": 1, "frequency_hz": 1e4}])),
+            command: &["respond", "model.json"],
+            expect: &["study.measured_frequencies", "falls below mode 1", "mode order differs"],
+        },
+        Case {
             class: "absorber-kind",
             model: edited(|m| m["study"]["absorber_design"]["kind"] = json!("ring_insert")),
             command: check,

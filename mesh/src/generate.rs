@@ -563,6 +563,17 @@ pub(crate) fn nearest(fractions: &[f64], f: f64) -> usize {
     best
 }
 
+/// The error of a panel mesh beyond the node limit.
+fn too_many_panel_nodes(at: &str, n_points: usize, [nx, ny]: [usize; 2], max_nodes: usize) -> ModelError {
+    invalid(
+        at.to_string(),
+        format!(
+            "would make {n_points} nodes ({nx} x {ny} elements), more than the {max_nodes} left within the \
+             model's node limit; give a larger element_size (in m) or fewer divisions"
+        ),
+    )
+}
+
 /// Meshes a panel. `at` names it in messages, e.g. `panels[0] ("lid")`.
 pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelPart, ModelError> {
     let [a, b] = p.size;
@@ -598,6 +609,11 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
             [((a / h - 1e-9).ceil() as usize).max(1), ((b / h - 1e-9).ceil() as usize).max(1)]
         }
     };
+    // The grid has at least (nx + 1)(ny + 1) points: refuse an oversized one before making it.
+    let at_least = nx.saturating_add(1).saturating_mul(ny.saturating_add(1));
+    if at_least > max_nodes {
+        return Err(too_many_panel_nodes(at, at_least, [nx, ny], max_nodes));
+    }
     let tol = 1e-9 * (a + b);
     let lines: Vec<StiffenerLine> = p
         .stiffeners
@@ -618,14 +634,7 @@ pub(crate) fn panel_part(at: &str, p: &Panel, max_nodes: usize) -> Result<PanelP
     let n_offset: usize = lines.iter().filter(|l| l.offset != 0.0).map(|l| l.extent(&us, &vs)).sum();
     let n_points = nx.saturating_add(1).saturating_mul(ny.saturating_add(1)).saturating_add(n_offset);
     if n_points > max_nodes {
-        return Err(invalid(
-            at.to_string(),
-            format!(
-                "would make {n_points} nodes ({nx} x {ny} elements), more than the {max_nodes} left within the \
-                 model's node limit; give a larger \
-                 element_size (in m) or fewer divisions"
-            ),
-        ));
+        return Err(too_many_panel_nodes(at, n_points, [nx, ny], max_nodes));
     }
     let mut part = Part::default();
     let id = |i: usize, j: usize| j * (nx + 1) + i;
@@ -1026,5 +1035,27 @@ mod tests {
         let mount = pp.part.springs.last().map(|s| s.node);
         assert_eq!(mount, Some(5 + 3), "the mount at u = 0.31 snaps to the grid point (3, 1)");
         assert!(pp.part.warnings.iter().any(|w| w.contains("between nodes")));
+    }
+
+    /// A panel whose size-to-element ratio is huge is refused before its grid lines are made (the
+    /// edits fuzz target found an element_size of 1e-300 aborting on the allocation of its grid).
+    #[test]
+    fn a_huge_panel_grid_is_an_error_not_an_abort() {
+        for (divisions, element_size) in [(None, Some(1e-300)), (Some([usize::MAX, 3]), None)] {
+            let p = Panel {
+                name: "p".into(),
+                size: [0.4, 0.2],
+                thickness: 0.002,
+                material: "m".into(),
+                origin: None,
+                divisions,
+                element_size,
+                edges: None,
+                mounts: Vec::new(),
+                stiffeners: Vec::new(),
+            };
+            let e = panel_part("panels[0] (\"p\")", &p, LIMIT).err().map(|e| e.to_string()).unwrap_or_default();
+            assert!(e.contains("panels[0] (\"p\")") && e.contains("node limit"), "{e}");
+        }
     }
 }

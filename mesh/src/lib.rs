@@ -61,11 +61,11 @@ pub use model::{
     Absorber, AbsorberDesign, AbsorberKind, AmplitudeLaw, AutoWord, Axis, Beam, BeamProperty, Bearing, BoxRegion,
     CandidateSet, CircleSection, CircularTubeSection, Direction, Dof, DofValues, EdgePreset, EdgeSupport, ElasticEdge,
     ElementId, EndPreset, ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Link, LinkKind,
-    LinkMembers, Location, MassMatrix, Material, MeshImport, MeshProperty, MeshRegion, Model, Mount, Node, NodeId,
-    NodesRegion, Objective, Order, Panel, PanelEdge, PanelEdges, PanelRegion, PointMass, RectangleSection,
-    RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere, SphereRegion,
-    Spring, SpringEnd, Stiffener, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting, TubeFittings,
-    TubeRegion, TubeSegment, Uncertainty,
+    LinkMembers, Location, MassMatrix, Material, MeasuredFrequency, MeshImport, MeshProperty, MeshRegion, Model, Mount,
+    Node, NodeId, NodesRegion, Objective, Order, Panel, PanelEdge, PanelEdges, PanelRegion, PointMass,
+    RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere,
+    SphereRegion, Spring, SpringEnd, Stiffener, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting,
+    TubeFittings, TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,

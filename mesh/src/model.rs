@@ -573,6 +573,22 @@ pub struct Study {
     /// Running-speed orders: forces at a multiple of the shaft speed, swept over `rpm_range`.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub orders: Vec<Order>,
+    /// Test values that replace computed natural frequencies (the mode's shape is kept): the
+    /// response and the design then use the measured frequency, which matters more for an absorber
+    /// than a small error of shape. Modes are numbered from 1 as in modes.json; pair test and
+    /// model modes first (`correlate`).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub measured_frequencies: Vec<MeasuredFrequency>,
+}
+
+/// A measured natural frequency that replaces the computed one of a mode.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct MeasuredFrequency {
+    /// Mode number, from 1 (zero-frequency modes count), as listed in modes.json.
+    pub mode: usize,
+    /// Measured natural frequency, in Hz.
+    pub frequency_hz: f64,
 }
 
 /// How an order's force amplitude varies with speed.

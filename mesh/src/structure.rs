@@ -664,6 +664,9 @@ pub struct StudySpec {
     /// The largest amplitude given in `excitation` (before any spreading over a region), in N; 1
     /// when there is no harmonic force.
     pub reference_force: f64,
+    /// Measured natural frequencies `(mode index from 0, Hz)` replacing computed ones, by
+    /// ascending mode.
+    pub measured_frequencies: Vec<(usize, f64)>,
 }
 
 /// Which named part each element belongs to (for energy shares and the VTK `part` cell array).

@@ -1937,6 +1937,25 @@ impl<'a> Builder<'a> {
             Some(d) => Some(self.design(d)?),
             None => None,
         };
+        let mut measured_frequencies: Vec<(usize, f64)> = Vec::new();
+        for (i, m) in s.measured_frequencies.iter().enumerate() {
+            let at = format!("study.measured_frequencies[{i}]");
+            if m.mode == 0 {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.mode"),
+                    message: "is 0; modes are numbered from 1, as in modes.json".into(),
+                });
+            }
+            check_positive(&at, "frequency_hz", m.frequency_hz)?;
+            if measured_frequencies.iter().any(|&(r, _)| r == m.mode - 1) {
+                return Err(ModelError::Invalid {
+                    at: format!("{at}.mode"),
+                    message: format!("mode {} is given twice; keep one measured value per mode", m.mode),
+                });
+            }
+            measured_frequencies.push((m.mode - 1, m.frequency_hz));
+        }
+        measured_frequencies.sort_by_key(|&(r, _)| r);
         Ok(StudySpec {
             band_hz: [lo, hi],
             excitation,
@@ -1951,6 +1970,7 @@ impl<'a> Builder<'a> {
             rpm_range,
             orders,
             reference_force,
+            measured_frequencies,
         })
     }
 

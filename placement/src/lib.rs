@@ -13,6 +13,7 @@
 pub mod constraints;
 mod design;
 mod error;
+pub mod measured;
 mod orders;
 mod quantity;
 mod refine;

@@ -97,6 +97,9 @@ pub fn designed(json: &str) -> Designed {
         &EigenParams::default(),
     )
     .unwrap_or_else(|e| panic!("{e}"));
+    let mut sol = sol;
+    antinode::placement::measured::apply_measured(&mut sol, &study.measured_frequencies)
+        .unwrap_or_else(|e| panic!("{e}"));
     let sm = StudyModel::build(&s, &sys, &sol, &study, true).unwrap_or_else(|e| panic!("{e}"));
     let spec = study.design.clone().unwrap_or_else(|| panic!("design"));
     let d = design(&sm, &spec, &s).unwrap_or_else(|e| panic!("{e}"));
