@@ -340,7 +340,11 @@ pub fn run(path: &Path, json: bool, out: Option<PathBuf>) -> Result<()> {
     };
     let svg = frf_svg(
         &format!("Receptance before and after: {}", s.title),
-        "displacement per newton [m/N]",
+        if sm.base.is_some() {
+            "displacement per m/s^2 of base acceleration [m/(m/s^2)]"
+        } else {
+            "displacement per newton [m/N]"
+        },
         &series,
         &markers,
     )?;

@@ -156,6 +156,8 @@ struct RespondReport {
     modes_kept: usize,
     response_points: Vec<String>,
     reference_force_n: f64,
+    /// What drives the response and what the responses are per.
+    excitation: String,
     peaks_before: Vec<PeakOut>,
     peaks_after: Vec<PeakOut>,
     peak_before: f64,
@@ -244,7 +246,7 @@ fn curves_csv_in(
     absorber_names: &[String],
     q: Quantity,
 ) -> String {
-    let u = q.unit_per_newton();
+    let u = per_unit(sm, q);
     let mut s = String::from("frequency_hz");
     for n in &sm.response_names {
         let _ = write!(s, ",{n} before [{u}],{n} before phase [deg]");
@@ -491,9 +493,9 @@ pub fn run(o: &Options) -> Result<()> {
     let Some(study) = l.structure.study.clone() else {
         bail!("{}: the model has no study block (band, excitation, response points)", path.display());
     };
-    if study.excitation.is_empty() {
+    if study.excitation.is_empty() && study.base.is_none() {
         bail!(
-            "{}: the study has no excitation in study.excitation: respond needs at least one harmonic force \
+            "{}: the study has no excitation in study.excitation: respond needs at least one harmonic force or a base excitation \
              (study.random is evaluated beside it)",
             path.display()
         );
@@ -542,7 +544,7 @@ pub fn run(o: &Options) -> Result<()> {
     let word = q.word();
     let svg = frf_svg(
         &format!("{}{}: {}", word[..1].to_uppercase(), &word[1..], l.structure.title),
-        &format!("{} per newton [{}]", q.motion(), q.unit_per_newton()),
+        &format!("{} {} [{}]", q.motion(), per_words(&sm), per_unit(&sm, q)),
         &series,
         &markers,
     )?;
@@ -604,7 +606,18 @@ pub fn run(o: &Options) -> Result<()> {
         files: files.iter().map(|p| p.display().to_string()).collect(),
         verification,
         temperature_cases,
-        random: (!sm.random.is_empty()).then(|| RandomOut {
+        excitation: match &sm.base {
+            None => "forces (responses per newton of the largest force)".into(),
+            Some(b) => format!(
+                "base acceleration along [{:.6}, {:.6}, {:.6}], {} displacement (responses per m/s^2 of base \
+                 acceleration)",
+                b.direction.unit[0],
+                b.direction.unit[1],
+                b.direction.unit[2],
+                if b.absolute { "absolute" } else { "relative" }
+            ),
+        },
+        random: (!sm.random.is_empty() || sm.base.as_ref().is_some_and(|b| !b.psd.is_empty())).then(|| RandomOut {
             rms_before_m: sm.random_rms(&[]),
             rms_after_m: has_absorbers.then(|| sm.random_rms(&sm.existing)),
         }),
@@ -633,8 +646,8 @@ pub fn run(o: &Options) -> Result<()> {
     let rows = |p: &[PeakOut]| -> Vec<Vec<String>> {
         p.iter().map(|k| vec![format!("{:.4}", k.frequency_hz), format!("{:.4e}", k.value), k.point.clone()]).collect()
     };
-    let value_head = format!("{word} [{}]", q.unit_per_newton());
-    println!("peaks without absorbers (per newton of excitation):");
+    let value_head = format!("{word} [{}]", per_unit(&sm, q));
+    println!("peaks without absorbers ({}):", per_words(&sm));
     println!("{}", table(&["frequency [Hz]", &value_head, "point"], rows(&report.peaks_before)));
     if has_absorbers {
         println!("peaks with the model's {} absorber(s):", names.len());
@@ -650,12 +663,17 @@ pub fn run(o: &Options) -> Result<()> {
                 ]
             })
             .collect();
-        println!("{}", table(&["absorber", "max stroke [m/N]", "max spring force [N/N]"], arows));
+        let (stroke_head, force_head) = if sm.base.is_some() {
+            ("max stroke [m/(m/s^2)]", "max spring force [N/(m/s^2)]")
+        } else {
+            ("max stroke [m/N]", "max spring force [N/N]")
+        };
+        println!("{}", table(&["absorber", stroke_head, force_head], arows));
     } else {
         println!("the model has no absorbers: only the bare structure is shown");
     }
     if let Some(r) = &report.random {
-        println!("random forces: RMS displacement over the band [m]:");
+        println!("random excitation: RMS displacement over the band [m]:");
         let rows = sm
             .response_names
             .iter()
@@ -784,4 +802,14 @@ fn print_speed(sp: &SpeedOut, q: Quantity) {
         (None, Some(n)) => println!("critical speed: {n}"),
         (None, None) => {}
     }
+}
+
+/// What responses are per: a newton of the largest force, or a m/s² of base acceleration.
+fn per_words(sm: &StudyModel) -> &'static str {
+    if sm.base.is_some() { "per m/s^2 of base acceleration" } else { "per newton of excitation" }
+}
+
+/// The unit of a response value: the quantity per newton, or per m/s² of base acceleration.
+fn per_unit(sm: &StudyModel, q: Quantity) -> String {
+    if sm.base.is_some() { format!("({})/(m/s^2)", q.motion_unit()) } else { q.unit_per_newton().to_string() }
 }

@@ -2167,3 +2167,56 @@ fn rejects_bad_measured_frequency_entries() {
         &["study.measured_frequencies[0]", "frequency_hz"],
     );
 }
+
+#[test]
+fn rejects_bad_base_excitations() {
+    assert_edit_rejected(
+        |m| m["study"]["base_excitation"] = json!({"direction": "z"}),
+        &["study.base_excitation", "together with study.excitation"],
+    );
+    assert_edit_rejected(
+        |m| {
+            m["study"].as_object_mut().map(|s| s.remove("excitation"));
+            m["study"]["base_excitation"] = json!({"direction": "z", "acceleration": 0});
+        },
+        &["study.base_excitation", "acceleration"],
+    );
+    assert_edit_rejected(
+        |m| {
+            m["study"].as_object_mut().map(|s| s.remove("excitation"));
+            m["supports"] = json!([]);
+            m["rigid_body_modes"] = json!(6);
+            m["study"]["base_excitation"] = json!({"direction": "z"});
+        },
+        &["study.base_excitation", "no support and no spring to ground"],
+    );
+}
+
+#[test]
+fn respond_runs_a_base_excitation() {
+    let tmp = temp();
+    let dir = tmp.path();
+    let model = dir.join("model.json");
+    let mut m = base();
+    m["study"].as_object_mut().map(|s| s.remove("excitation"));
+    m["study"]["base_excitation"] = json!({"direction": "z", "acceleration": 9.81, "psd": [[20, 0.01], [400, 0.01]]});
+    std::fs::write(&model, pretty(&m)).expect("model written");
+    let out = dir.join("out");
+    let r = antinode(
+        dir,
+        [
+            OsStr::new("respond"),
+            model.as_os_str(),
+            "--json".as_ref(),
+            "--verify".as_ref(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ],
+    );
+    r.assert_success("respond with a base excitation");
+    let j = r.json();
+    assert!(j["excitation"].as_str().is_some_and(|e| e.contains("base acceleration")), "{}", j["excitation"]);
+    assert!((num(&j["reference_force_n"], "reference amplitude") - 9.81).abs() < 1e-12);
+    assert!(num(&j["random"]["rms_before_m"][0], "random RMS") > 0.0);
+    assert!(num(&j["verification"]["max_relative_difference"], "verification") < 0.01);
+}

@@ -58,14 +58,14 @@ pub use export::{MeshExport, MeshFormat, NODE_ID_ARRAY, PROPERTY_ARRAY, export_m
 pub use import::resolve_mesh_files;
 pub use io::{load_model, model_schema_json, parse_model, write_atomic};
 pub use model::{
-    Absorber, AbsorberDesign, AbsorberKind, AmplitudeLaw, AutoWord, Axis, Beam, BeamProperty, Bearing, BoxRegion,
-    CandidateSet, CircleSection, CircularTubeSection, Direction, Dof, DofValues, EdgePreset, EdgeSupport, ElasticEdge,
-    ElementId, EndPreset, ExplicitSection, Fidelity, Fixity, FixityPreset, Force, Ground, Line, Link, LinkKind,
-    LinkMembers, Location, MassMatrix, Material, MeasuredFrequency, MeshImport, MeshProperty, MeshRegion, Model, Mount,
-    Node, NodeId, NodesRegion, Objective, Order, Panel, PanelEdge, PanelEdges, PanelRegion, PointMass,
-    RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell, ShellProperty, Sphere,
-    SphereRegion, Spring, SpringEnd, Stiffener, Study, Support, Targets, Tube, TubeEnd, TubeEnds, TubeFitting,
-    TubeFittings, TubeRegion, TubeSegment, Uncertainty,
+    Absorber, AbsorberDesign, AbsorberKind, AmplitudeLaw, AutoWord, Axis, BaseExcitation, BaseResponse, Beam,
+    BeamProperty, Bearing, BoxRegion, CandidateSet, CircleSection, CircularTubeSection, Direction, Dof, DofValues,
+    EdgePreset, EdgeSupport, ElasticEdge, ElementId, EndPreset, ExplicitSection, Fidelity, Fixity, FixityPreset, Force,
+    Ground, Line, Link, LinkKind, LinkMembers, Location, MassMatrix, Material, MeasuredFrequency, MeshImport,
+    MeshProperty, MeshRegion, Model, Mount, Node, NodeId, NodesRegion, Objective, Order, Panel, PanelEdge, PanelEdges,
+    PanelRegion, PointMass, RectangleSection, RectangularTubeSection, Region, ResponsePoint, RingEnd, Section, Shell,
+    ShellProperty, Sphere, SphereRegion, Spring, SpringEnd, Stiffener, Study, Support, Targets, Tube, TubeEnd,
+    TubeEnds, TubeFitting, TubeFittings, TubeRegion, TubeSegment, Uncertainty,
 };
 pub use quality::{
     ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_DEG, ShapeDefect, ShellShape, WARP_WARNING_DEG,
@@ -73,10 +73,10 @@ pub use quality::{
 };
 pub use section::{SectionProperties, section_properties};
 pub use structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, ElementParts,
-    LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce,
-    RandomSpec, ResponseSpec, RingCandidate, ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode,
-    StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BaseSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec,
+    ElementParts, LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes,
+    PointForce, RandomSpec, ResponseSpec, RingCandidate, ShellElement, SpringElement, StiffenerNodes, Structure,
+    StructureNode, StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 pub use validate::{DEFAULT_MODAL_DAMPING_RATIO, Limits, validate, validate_in, validate_with};
 pub use vtk::{

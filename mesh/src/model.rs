@@ -579,6 +579,43 @@ pub struct Study {
     /// model modes first (`correlate`).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub measured_frequencies: Vec<MeasuredFrequency>,
+    /// Base (support) excitation: every support and every spring to ground moves together as a
+    /// rigid translation along one direction with a given acceleration. Given instead of forces.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub base_excitation: Option<BaseExcitation>,
+}
+
+/// Which response a base excitation reports.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum BaseResponse {
+    /// Displacement relative to the moving base (what strains the part).
+    #[default]
+    Relative,
+    /// Absolute displacement (relative plus the base's own motion).
+    Absolute,
+}
+
+/// A rigid translation of the base (supports and grounded springs) along one direction.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct BaseExcitation {
+    /// Direction of the base motion.
+    pub direction: Direction,
+    /// Harmonic base acceleration amplitude, in m/s² (default 1): responses are reported per
+    /// m/s² of it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub acceleration: Option<f64>,
+    /// Phase of the base acceleration, in degrees (default 0).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub phase_deg: Option<f64>,
+    /// Random base acceleration: one-sided PSD `[[frequency_hz, (m/s²)²/Hz], ...]`, strictly
+    /// ascending frequencies, interpolated linearly (zero outside the table).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub psd: Vec<[f64; 2]>,
+    /// `relative` (default) or `absolute` displacement at the response points.
+    #[serde(default)]
+    pub response: BaseResponse,
 }
 
 /// A measured natural frequency that replaces the computed one of a mode.

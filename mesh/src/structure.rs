@@ -467,23 +467,51 @@ pub struct RandomSpec {
 impl RandomSpec {
     /// The PSD at `f_hz` (linear interpolation, 0 outside the table), in N²/Hz.
     pub fn psd_at(&self, f_hz: f64) -> f64 {
-        let t = &self.psd;
-        match t.len() {
-            0 => 0.0,
-            1 => {
-                if f_hz == t[0].0 {
-                    t[0].1
-                } else {
-                    0.0
-                }
+        psd_at(&self.psd, f_hz)
+    }
+}
+
+/// Checked base excitation: a rigid translation of every support and grounded spring.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BaseSpec {
+    /// Direction of the base motion.
+    pub direction: DirectionSpec,
+    /// Harmonic base acceleration amplitude, in m/s².
+    pub acceleration: f64,
+    /// Phase of the base acceleration, in rad.
+    pub phase_rad: f64,
+    /// One-sided PSD of a random base acceleration (frequency in Hz, (m/s²)²/Hz), ascending; empty
+    /// when none.
+    pub psd: Vec<(f64, f64)>,
+    /// Absolute (true) or relative (false) displacement at the response points.
+    pub absolute: bool,
+}
+
+impl BaseSpec {
+    /// The base acceleration PSD at `f_hz` (linear interpolation, 0 outside the table), in
+    /// (m/s²)²/Hz.
+    pub fn psd_at(&self, f_hz: f64) -> f64 {
+        psd_at(&self.psd, f_hz)
+    }
+}
+
+/// A one-sided PSD table at `f_hz`: linear interpolation, 0 outside it.
+fn psd_at(t: &[(f64, f64)], f_hz: f64) -> f64 {
+    match t.len() {
+        0 => 0.0,
+        1 => {
+            if f_hz == t[0].0 {
+                t[0].1
+            } else {
+                0.0
             }
-            n => {
-                if f_hz < t[0].0 || f_hz > t[n - 1].0 {
-                    return 0.0;
-                }
-                let (i, w) = bracket(&t.iter().map(|p| p.0).collect::<Vec<_>>(), f_hz);
-                if i + 1 < n { t[i].1 * (1.0 - w) + t[i + 1].1 * w } else { t[i].1 }
+        }
+        n => {
+            if f_hz < t[0].0 || f_hz > t[n - 1].0 {
+                return 0.0;
             }
+            let (i, w) = bracket(&t.iter().map(|p| p.0).collect::<Vec<_>>(), f_hz);
+            if i + 1 < n { t[i].1 * (1.0 - w) + t[i + 1].1 * w } else { t[i].1 }
         }
     }
 }
@@ -662,11 +690,14 @@ pub struct StudySpec {
     /// Running-speed orders.
     pub orders: Vec<OrderSpec>,
     /// The largest amplitude given in `excitation` (before any spreading over a region), in N; 1
-    /// when there is no harmonic force.
+    /// when there is no harmonic force; with a base excitation its acceleration amplitude, in m/s²
+    /// (responses are then per m/s² of base acceleration).
     pub reference_force: f64,
     /// Measured natural frequencies `(mode index from 0, Hz)` replacing computed ones, by
     /// ascending mode.
     pub measured_frequencies: Vec<(usize, f64)>,
+    /// Base excitation, if given (then there are no forces).
+    pub base: Option<BaseSpec>,
 }
 
 /// Which named part each element belongs to (for energy shares and the VTK `part` cell array).

@@ -15,10 +15,10 @@ use crate::quality::{ASPECT_RATIO_WARNING, JACOBIAN_RATIO_WARNING, SKEW_WARNING_
 use crate::region::{RegionContext, select};
 use crate::section::section_properties;
 use crate::structure::{
-    AbsorberDamping, AbsorberSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec, LineNodes,
-    LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce, RandomSpec,
-    ResponseSpec, RingCandidate, ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode, StudySpec,
-    TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
+    AbsorberDamping, AbsorberSpec, BaseSpec, BeamElement, DampingSpec, DesignSpec, DirectionSpec, ElastomerSpec,
+    LineNodes, LinkSpec, MaterialProperties, MeshNodes, NodalMass, OrderAmplitude, OrderSpec, PanelNodes, PointForce,
+    RandomSpec, ResponseSpec, RingCandidate, ShellElement, SpringElement, StiffenerNodes, Structure, StructureNode,
+    StudySpec, TargetSpec, TubeNodes, UncertaintySpec, bounding_diagonal, distance,
 };
 
 /// Default modal damping ratio of elastic modes when the study gives none (1 %, common practice for
@@ -93,7 +93,10 @@ pub fn validate_with(model: &Model, folder: &Path, limits: &Limits) -> Result<St
     let point_masses = b.point_masses()?;
     let absorbers = b.absorbers()?;
     let study = match &model.study {
-        Some(s) => Some(b.study(s, &fixed)?),
+        Some(s) => {
+            let grounded = fixed.iter().any(|f| f.iter().any(|&x| x)) || springs.iter().any(|sp| sp.other.is_none());
+            Some(b.study(s, &fixed, grounded)?)
+        }
         None => {
             if let Some(i) = model.absorbers.iter().position(|a| a.elastomer.is_some()) {
                 return Err(ModelError::Invalid {
@@ -280,6 +283,48 @@ fn phase_deg(at: &str, phase_deg: Option<f64>) -> Result<f64, ModelError> {
             allowed: "a finite angle in degrees".into(),
         })
     }
+}
+
+/// The checked base excitation of study `s`; `grounded` tells whether the model has a support or
+/// a spring to ground (a base to move).
+fn base_spec(
+    b: &crate::model::BaseExcitation,
+    s: &crate::model::Study,
+    grounded: bool,
+) -> Result<BaseSpec, ModelError> {
+    let at = "study.base_excitation";
+    let given =
+        [(!s.excitation.is_empty(), "excitation"), (!s.random.is_empty(), "random"), (!s.orders.is_empty(), "orders")];
+    if let Some((_, other)) = given.iter().find(|g| g.0) {
+        return Err(ModelError::Invalid {
+            at: at.into(),
+            message: format!(
+                "is given together with study.{other}; a study is driven either by forces or by the base's motion: \
+                 make a second model file for the other case"
+            ),
+        });
+    }
+    if !grounded {
+        return Err(ModelError::Invalid {
+            at: at.into(),
+            message: "needs a base to move: the model has no support and no spring to ground (a free body is not \
+                      excited by base motion; apply forces instead)"
+                .into(),
+        });
+    }
+    let direction = direction(&format!("{at}.direction"), &b.direction)?;
+    let acceleration = b.acceleration.unwrap_or(1.0);
+    check_positive(at, "acceleration", acceleration)?;
+    let phase = phase_deg(at, b.phase_deg)?;
+    let psd =
+        if b.psd.is_empty() { Vec::new() } else { ascending_table(&format!("{at}.psd"), &b.psd, "frequency", "PSD")? };
+    Ok(BaseSpec {
+        direction,
+        acceleration,
+        phase_rad: phase.to_radians(),
+        psd,
+        absolute: b.response == crate::model::BaseResponse::Absolute,
+    })
 }
 
 fn check_positive(at: &str, field: &'static str, value: f64) -> Result<(), ModelError> {
@@ -1795,7 +1840,7 @@ impl<'a> Builder<'a> {
         Ok(out)
     }
 
-    fn study(&mut self, s: &crate::model::Study, fixed: &[[bool; 6]]) -> Result<StudySpec, ModelError> {
+    fn study(&mut self, s: &crate::model::Study, fixed: &[[bool; 6]], grounded: bool) -> Result<StudySpec, ModelError> {
         let (rpm_range, orders) = self.orders(s, fixed)?;
         let [lo, hi] = match (s.band_hz, rpm_range) {
             (Some(b), _) => b,
@@ -1925,6 +1970,10 @@ impl<'a> Builder<'a> {
             let psd = ascending_table(&format!("{at}.psd"), &r.psd, "frequency", "PSD")?;
             random.push(RandomSpec { node, direction: dir, psd });
         }
+        let base = match &s.base_excitation {
+            Some(b) => Some(base_spec(b, s, grounded)?),
+            None => None,
+        };
         let mut response_points = Vec::new();
         for (i, r) in s.response_points.iter().enumerate() {
             let at = format!("study.response_points[{i}]");
@@ -1969,8 +2018,9 @@ impl<'a> Builder<'a> {
             random,
             rpm_range,
             orders,
-            reference_force,
+            reference_force: base.as_ref().map_or(reference_force, |b| b.acceleration),
             measured_frequencies,
+            base,
         })
     }
 

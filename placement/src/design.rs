@@ -29,7 +29,7 @@ use crate::error::PlacementError;
 use crate::refine::{Goal, Problem, run};
 use crate::robust::{Evaluator, Scenario, scenarios};
 use crate::study::{Candidate, Peak, StudyModel};
-use crate::tuning::{Tuning, den_hartog_brock, warburton_random_force};
+use crate::tuning::{Tuning, den_hartog_brock, warburton_base_harmonic, warburton_base_random, warburton_random_force};
 
 /// Auto targets: modes whose modal peak is at least this share of the largest (2 %).
 pub const AUTO_TARGET_SHARE: f64 = 0.02;
@@ -190,10 +190,14 @@ pub struct RefinementInfo {
     pub objective_ratio: f64,
 }
 
-fn rule(objective: Objective) -> (&'static str, fn(f64) -> Tuning) {
-    match objective {
-        Objective::Peak => ("Den Hartog frequency, Brock damping (harmonic force, H-infinity)", den_hartog_brock),
-        Objective::Rms => ("Warburton 1982 white-noise force (H2)", warburton_random_force),
+fn rule(objective: Objective, base: bool) -> (&'static str, fn(f64) -> Tuning) {
+    match (objective, base) {
+        (Objective::Peak, false) => {
+            ("Den Hartog frequency, Brock damping (harmonic force, H-infinity)", den_hartog_brock)
+        }
+        (Objective::Rms, false) => ("Warburton 1982 white-noise force (H2)", warburton_random_force),
+        (Objective::Peak, true) => ("Warburton 1982 harmonic base acceleration (H-infinity)", warburton_base_harmonic),
+        (Objective::Rms, true) => ("Warburton 1982 white-noise base acceleration (H2)", warburton_base_random),
     }
 }
 
@@ -221,7 +225,7 @@ pub fn design(sm: &StudyModel, spec: &DesignSpec, structure: &Structure) -> Resu
     let targets = choose_targets(sm, spec)?;
     let band = sm.band_hz;
     let objective = spec.objective;
-    let (rule_name, tune) = rule(objective);
+    let (rule_name, tune) = rule(objective, sm.base.is_some());
     let window_value = |lo: f64, hi: f64, links: &[AbsorberLink]| -> f64 {
         match objective {
             Objective::Peak => sm.peak_estimate(lo, hi, links),

@@ -120,7 +120,10 @@ impl<'a> Evaluator<'a> {
         let (na, nr) = (coords.len(), sm.responses.len());
         let rows: Vec<GridTable> = grid
             .par_iter()
-            .map(|&g| sm.table_row(&sm.model.modal_factors(2.0 * std::f64::consts::PI * g), coords))
+            .map(|&g| {
+                let omega = 2.0 * std::f64::consts::PI * g;
+                sm.table_row(omega, &sm.model.modal_factors(omega), coords)
+            })
             .collect();
         let table = GridTable::concat(na, nr, rows);
         Evaluator { sm, scenarios, windows, n_fixed, na, grid, table }
@@ -198,12 +201,7 @@ impl<'a> Evaluator<'a> {
             (acc / (band[band.len() - 1].0 - band[0].0)).sqrt()
         };
         let exact = |g: f64| -> f64 {
-            let r = self.sm.model.coupled_response(
-                2.0 * std::f64::consts::PI * g,
-                &self.sm.loads,
-                &self.sm.responses,
-                &scaled,
-            );
+            let r = self.sm.coupled(2.0 * std::f64::consts::PI * g, &scaled);
             r.displacement.iter().map(|x| x.norm()).fold(0.0, f64::max) / (f0 * s * s)
         };
         let g = &self.grid;
@@ -215,12 +213,7 @@ impl<'a> Evaluator<'a> {
                 }
                 let (lo, hi) = ((blo / s).max(g[i - 1]), (bhi / s).min(g[i + 1]));
                 let (_, v) = golden_max(lo, hi, 1e-8, |f| {
-                    let r = self.sm.model.coupled_response(
-                        2.0 * std::f64::consts::PI * f,
-                        &self.sm.loads,
-                        &self.sm.responses,
-                        &scaled,
-                    );
+                    let r = self.sm.coupled(2.0 * std::f64::consts::PI * f, &scaled);
                     r.stroke[self.n_fixed + j].norm() / (f0 * s * s)
                 });
                 max_stroke[j] = max_stroke[j].max(v);

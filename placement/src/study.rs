@@ -3,11 +3,11 @@
 //! peaks with any set of absorbers coupled.
 
 use antinode_mesh::{
-    AbsorberDamping, AbsorberKind, AbsorberSpec, DirectionSpec, ElastomerSpec, OrderSpec, RandomSpec, Structure,
-    StudySpec,
+    AbsorberDamping, AbsorberKind, AbsorberSpec, BaseSpec, DirectionSpec, ElastomerSpec, OrderSpec, RandomSpec,
+    Structure, StudySpec,
 };
 use antinode_solver::{
-    AbsorberLink, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
+    AbsorberLink, BaseMotion, Complex64, Coordinate, CoupledResponse, DirectSolver, Load, ModalDampingLaw, ModalModel,
     ModalSolution, StructureDamping, System, absorber_forces, frequency_grid, golden_max, relative_difference,
     resonance_peak,
 };
@@ -79,6 +79,11 @@ pub struct StudyModel {
     pub rpm_range: Option<[f64; 2]>,
     /// Running-speed orders and the coordinate of each one's force.
     pub orders: Vec<(usize, OrderSpec)>,
+    /// Base excitation, if the study is driven by the base: its inertia load is the modal model's
+    /// coordinate `base_coord` (after `coords`), and responses are per m/s² of base acceleration.
+    pub base: Option<BaseSpec>,
+    /// Coordinate of the base's inertia load vector (meaningful with `base`).
+    pub base_coord: usize,
     /// Modal factors at each grid frequency (shared by every evaluation).
     grid_factors: Vec<Vec<Complex64>>,
 }
@@ -228,9 +233,11 @@ impl StudyModel {
         study: &StudySpec,
         with_candidates: bool,
     ) -> Result<Self, PlacementError> {
-        if study.excitation.is_empty() && study.random.is_empty() {
+        if study.excitation.is_empty() && study.random.is_empty() && study.base.is_none() {
             return Err(PlacementError::Study(
-                "the study has no excitation: add study.excitation (harmonic forces) or study.random".into(),
+                "the study has no excitation: add study.excitation (harmonic forces), study.random or \
+                 study.base_excitation"
+                    .into(),
             ));
         }
         if study.response_points.is_empty() {
@@ -288,7 +295,20 @@ impl StudyModel {
             }
         }
         let damping = structure_damping(study);
-        let model = ModalModel::build_damped(system, modes, &coords, &damping, true)?;
+        // A base excitation's inertia load −b ü_g (b = M r, see `BaseMotion`) is one more coordinate.
+        let base_coord = coords.len();
+        let load_vectors: Vec<Vec<f64>> = study.base.iter().map(|b| system.base_load(b.direction.unit)).collect();
+        if let Some(b) = &study.base {
+            if load_vectors[0].iter().all(|&v| v == 0.0) {
+                return Err(PlacementError::Study(
+                    "study.base_excitation: the base's motion puts no inertia load on the free DOFs (no mass moves \
+                     along its direction)"
+                        .into(),
+                ));
+            }
+            loads.push(Load { coord: base_coord, amplitude: -Complex64::from_polar(b.acceleration, b.phase_rad) });
+        }
+        let model = ModalModel::build_with_loads(system, modes, &coords, &load_vectors, &damping, true)?;
         let natural_hz: Vec<f64> = (0..modes.n_modes()).map(|i| modes.frequency_hz(i)).collect();
         // Grid spacing from the lightest equivalent damping of the kept elastic modes.
         let lightest = (modes.n_zero_energy..modes.n_modes())
@@ -318,8 +338,41 @@ impl StudyModel {
             rpm_range: study.rpm_range,
             orders,
             temperature_c: study.temperatures_c.first().copied(),
+            base: study.base.clone(),
+            base_coord,
             grid_factors,
         })
+    }
+
+    /// The base motion at ω (rad/s) for a base acceleration of complex amplitude `acceleration`
+    /// (m/s²): u_g = −ü_g/ω². `None` without a base excitation.
+    fn base_motion_for(&self, omega: f64, acceleration: Complex64) -> Option<BaseMotion> {
+        self.base.as_ref().map(|b| BaseMotion {
+            displacement: -acceleration / (omega * omega),
+            direction: b.direction.unit,
+            absolute: b.absolute,
+        })
+    }
+
+    /// The base motion at ω (rad/s) of the study's harmonic base excitation.
+    pub fn base_motion(&self, omega: f64) -> Option<BaseMotion> {
+        let a =
+            self.base.as_ref().map_or(Complex64::new(0.0, 0.0), |b| Complex64::from_polar(b.acceleration, b.phase_rad));
+        self.base_motion_for(omega, a)
+    }
+
+    /// The study's harmonic response at ω (rad/s) with `links` coupled (forces or base motion),
+    /// not divided by the reference amplitude.
+    pub fn coupled(&self, omega: f64, links: &[AbsorberLink]) -> CoupledResponse {
+        let factors = self.model.modal_factors(omega);
+        self.model.coupled_response_base(
+            &factors,
+            omega,
+            &self.loads,
+            &self.responses,
+            links,
+            self.base_motion(omega).as_ref(),
+        )
     }
 
     /// Largest response over the response points at `f_hz` with `absorbers`, per newton, and the
@@ -363,7 +416,9 @@ impl StudyModel {
         } else {
             absorbers
         };
-        let r = self.model.coupled_response_with(factors, omega, &self.loads, &self.responses, absorbers);
+        let base = self.base_motion(omega);
+        let r =
+            self.model.coupled_response_base(factors, omega, &self.loads, &self.responses, absorbers, base.as_ref());
         let mut best = (0.0, 0);
         for (i, x) in r.displacement.iter().enumerate() {
             let v = x.norm() / self.reference_force;
@@ -397,14 +452,36 @@ impl StudyModel {
             .map(|&f| {
                 let omega = 2.0 * std::f64::consts::PI * f;
                 let links = self.links_at(f, absorbers);
-                let m = self.model.coupled_response(omega, &self.loads, &self.responses, &links);
-                let d = match &shared {
-                    Some(direct) => direct.solve(omega, &self.loads, &self.responses)?,
-                    None => DirectSolver::new(system, modes, &self.damping, &self.coords, &links)?.solve(
-                        omega,
-                        &self.loads,
-                        &self.responses,
-                    )?,
+                let m = self.coupled(omega, &links);
+                let own;
+                let direct = match &shared {
+                    Some(direct) => direct,
+                    None => {
+                        own = DirectSolver::new(system, modes, &self.damping, &self.coords, &links)?;
+                        &own
+                    }
+                };
+                let d = match &self.base {
+                    None => direct.solve(omega, &self.loads, &self.responses)?,
+                    Some(b) => {
+                        // Relative-motion form: −ü_g b on the structure and −ü_g m (t·d) on each
+                        // absorber's mass; absolute responses add the base's own motion.
+                        let acc = Complex64::from_polar(b.acceleration, b.phase_rad);
+                        let load: Vec<Complex64> =
+                            system.base_load(b.direction.unit).iter().map(|&v| -acc * v).collect();
+                        let on_absorbers: Vec<Complex64> = links
+                            .iter()
+                            .map(|l| -acc * l.mass * self.model.base_offset(l.coord, b.direction.unit))
+                            .collect();
+                        let mut d = direct.solve_with_absorber_loads(omega, &load, &on_absorbers, &self.responses)?;
+                        if b.absolute {
+                            let ug = -acc / (omega * omega);
+                            for (x, &c) in d.response.displacement.iter_mut().zip(&self.responses) {
+                                *x += ug * self.model.base_offset(c, b.direction.unit);
+                            }
+                        }
+                        d
+                    }
                 };
                 Ok((f, m, d.response, d.residual))
             })
@@ -451,6 +528,30 @@ impl StudyModel {
             let omega = 2.0 * std::f64::consts::PI * f;
             let links = self.links_at(f, absorbers);
             let mut s = vec![0.0; self.responses.len()];
+            if let Some(b) = &self.base {
+                let g = b.psd_at(f);
+                if g > 0.0 {
+                    // Unit base acceleration: load −b, base displacement −1/ω². At 0 Hz the base
+                    // displacement is unbounded while the relative response tends to its static
+                    // value: evaluate just above (10⁻⁶ of the band's top).
+                    let omega = omega.max(2.0 * std::f64::consts::PI * 1e-6 * hi);
+                    let unit = Complex64::new(1.0, 0.0);
+                    let load = [Load { coord: self.base_coord, amplitude: -unit }];
+                    let factors = self.model.modal_factors(omega);
+                    let base = self.base_motion_for(omega, unit);
+                    let r = self.model.coupled_response_base(
+                        &factors,
+                        omega,
+                        &load,
+                        &self.responses,
+                        &links,
+                        base.as_ref(),
+                    );
+                    for (sp, x) in s.iter_mut().zip(&r.displacement) {
+                        *sp += x.norm_sqr() * g;
+                    }
+                }
+            }
             for (coord, spec) in &self.random {
                 let g = spec.psd_at(f);
                 if g == 0.0 {
@@ -490,7 +591,7 @@ impl StudyModel {
         for &f in freq_hz {
             let omega = 2.0 * std::f64::consts::PI * f;
             let at_f = self.links_at(f, absorbers);
-            let r = self.model.coupled_response(omega, &self.loads, &self.responses, &at_f);
+            let r = self.coupled(omega, &at_f);
             for (i, x) in r.displacement.iter().enumerate() {
                 response[i].push(x / f0);
             }
@@ -542,20 +643,32 @@ impl StudyModel {
     /// The receptance table of the attachment coordinates `coords` on the grid.
     pub fn table(&self, coords: &[usize]) -> GridTable {
         // One row per grid frequency, concatenated in grid order.
-        let rows: Vec<GridTable> =
-            (0..self.grid_hz.len()).into_par_iter().map(|i| self.table_row(&self.grid_factors[i], coords)).collect();
+        let rows: Vec<GridTable> = (0..self.grid_hz.len())
+            .into_par_iter()
+            .map(|i| self.table_row(2.0 * std::f64::consts::PI * self.grid_hz[i], &self.grid_factors[i], coords))
+            .collect();
         GridTable::concat(coords.len(), self.responses.len(), rows)
     }
 
-    /// The receptance table of `coords` at one frequency, given its modal factors
-    /// ([`ModalModel::modal_factors`]).
-    pub(crate) fn table_row(&self, f: &[Complex64], coords: &[usize]) -> GridTable {
+    /// The receptance table of `coords` at ω (rad/s), given its modal factors
+    /// ([`ModalModel::modal_factors`]). Under a base excitation the attachments' motion is the
+    /// absolute one (the absorbers' springs see it), the response points' as the study asks.
+    pub(crate) fn table_row(&self, omega: f64, f: &[Complex64], coords: &[usize]) -> GridTable {
         let (na, nr) = (coords.len(), self.responses.len());
+        let base = self.base_motion(omega);
+        let offset = |c: usize| -> Complex64 {
+            base.map_or(Complex64::new(0.0, 0.0), |b| b.displacement * self.model.base_offset(c, b.direction))
+        };
         let forced = |c: usize| -> Complex64 {
             self.loads.iter().map(|l| self.model.receptance_with(f, c, l.coord) * l.amplitude).sum()
         };
-        let fa = coords.iter().map(|&c| forced(c)).collect();
-        let fr = self.responses.iter().map(|&r| forced(r)).collect();
+        let fa = coords.iter().map(|&c| forced(c) + offset(c)).collect();
+        let absolute = base.is_some_and(|b| b.absolute);
+        let fr = self
+            .responses
+            .iter()
+            .map(|&r| forced(r) + if absolute { offset(r) } else { Complex64::new(0.0, 0.0) })
+            .collect();
         let haa = coords
             .iter()
             .flat_map(|&a| coords.iter().map(move |&b| (a, b)))

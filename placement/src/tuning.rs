@@ -41,6 +41,26 @@ pub fn warburton_random_force(mu: f64) -> Tuning {
     }
 }
 
+/// Harmonic base acceleration of an undamped primary, smallest peak of the displacement relative
+/// to the base (H∞): f = √(1 − μ/2)/(1+μ), ζ_a = √(3μ / (8(1+μ)(1 − μ/2))) (Warburton 1982, as
+/// above; an approximation within about 0.2 % of the numerical optimum).
+pub fn warburton_base_harmonic(mu: f64) -> Tuning {
+    Tuning {
+        frequency_ratio: (1.0 - mu / 2.0).sqrt() / (1.0 + mu),
+        damping_ratio: (3.0 * mu / (8.0 * (1.0 + mu) * (1.0 - mu / 2.0))).sqrt(),
+    }
+}
+
+/// White-noise base acceleration of an undamped primary, smallest variance of the displacement
+/// relative to the base (H2): f = √(1 − μ/2)/(1+μ), ζ_a = √(μ(1 − μ/4) / (4(1+μ)(1 − μ/2)))
+/// (Warburton 1982, as above; exact).
+pub fn warburton_base_random(mu: f64) -> Tuning {
+    Tuning {
+        frequency_ratio: (1.0 - mu / 2.0).sqrt() / (1.0 + mu),
+        damping_ratio: (mu * (1.0 - mu / 4.0) / (4.0 * (1.0 + mu) * (1.0 - mu / 2.0))).sqrt(),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

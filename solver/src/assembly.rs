@@ -413,6 +413,14 @@ impl System {
         self.dofs.n_dofs()
     }
 
+    /// Inertia load of a unit rigid translation of everything along the unit vector `d`, supports
+    /// included: b = M_ff r_f + M_fs r_s over the free DOFs, in N per m/s² (the load of a base
+    /// acceleration is −b ü_g; see [`crate::BaseMotion`]). Zero for matrices read from files,
+    /// which carry no geometry.
+    pub fn base_load(&self, d: [f64; 3]) -> Vec<f64> {
+        (0..self.n_dofs()).map(|i| (0..3).map(|k| self.base_inertia[(i, k)] * d[k]).sum()).collect()
+    }
+
     /// M x for a vector over the free DOFs (e.g. for mass-weighted comparisons of modes), in N per
     /// m/s² of x.
     ///

@@ -241,6 +241,39 @@ impl DirectSolver {
         self.solve_rhs(omega, b, responses)
     }
 
+    /// Response at ω (rad/s) to a load vector over the free DOFs (`structure`, length
+    /// [`System::n_dofs`], in N) and loads on the absorbers' own DOFs (`absorber`, one per
+    /// absorber, in N): e.g. a base excitation's inertia loads in the relative-motion form (see
+    /// [`crate::BaseMotion`]).
+    ///
+    /// # Errors
+    /// As [`DirectSolver::solve`]; [`SolverError::Request`] for loads of the wrong lengths.
+    pub fn solve_with_absorber_loads(
+        &self,
+        omega: f64,
+        structure: &[Complex64],
+        absorber: &[Complex64],
+        responses: &[usize],
+    ) -> Result<DirectResponse, SolverError> {
+        if structure.len() != self.n || absorber.len() != self.n_absorbers {
+            return Err(SolverError::Request(format!(
+                "loads of {} structure DOFs and {} absorbers for a system of {} and {}",
+                structure.len(),
+                absorber.len(),
+                self.n,
+                self.n_absorbers
+            )));
+        }
+        let mut b = Mat::<Complex64>::zeros(self.n_unknowns(), 1);
+        for (i, &v) in structure.iter().enumerate() {
+            b[(i, 0)] = v;
+        }
+        for (k, &v) in absorber.iter().enumerate() {
+            b[(self.n + k, 0)] = v;
+        }
+        self.solve_rhs(omega, b, responses)
+    }
+
     fn solve_rhs(&self, omega: f64, b: Mat<Complex64>, responses: &[usize]) -> Result<DirectResponse, SolverError> {
         let a = self.matrix(omega)?;
         let lu = Lu::try_new_with_symbolic(self.symbolic.clone(), a.as_ref()).map_err(|e| lu_error("LU", e))?;

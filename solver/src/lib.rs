@@ -46,8 +46,8 @@ pub use matrices::{system_from_matrix_market, write_matrix_market};
 pub use memory::{FACTORS_ALIVE, GIB, MemoryEstimate, memory_estimate};
 pub use num_complex::Complex64;
 pub use response::{
-    AbsorberLink, Coordinate, CoupledResponse, Load, ModalDampingLaw, ModalModel, StructureDamping, absorber_forces,
-    frequency_grid, golden_max, interpolate, refined_peaks, resonance_peak,
+    AbsorberLink, BaseMotion, Coordinate, CoupledResponse, Load, ModalDampingLaw, ModalModel, StructureDamping,
+    absorber_forces, frequency_grid, golden_max, interpolate, refined_peaks, resonance_peak,
 };
 pub use statics::solve_static;
 

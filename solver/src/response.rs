@@ -183,6 +183,32 @@ pub struct ModalModel {
     residual_mass: Vec<f64>,
     /// Expansion point σ of the residual terms, in rad²/s².
     sigma: f64,
+    /// Unit direction of each translational coordinate (zero for rotations and load vectors): a
+    /// rigid base translation d moves coordinate c by (t_c · d) per metre.
+    translation: Vec<[f64; 3]>,
+}
+
+/// Harmonic rigid translation of the base (every support and spring to ground) at one frequency.
+///
+/// With the base displacement u_g d (u_g complex, d a unit vector) the free DOFs move by
+/// u = r u_g + u_rel, where r is the rigid translation (K r = 0 with the supports moved too), and
+///
+/// ```text
+/// M ü_rel + C u̇_rel + K u_rel = −(M_ff r_f + M_fs r_s) ü_g
+/// ```
+///
+/// (the relative-motion form of base excitation, e.g. Clough & Penzien, Dynamics of Structures,
+/// support excitation; damping acts on the relative motion, common practice). The load vector is
+/// [`System::base_load`] times −ü_g = ω² u_g; an absorber's spring acts on the absolute motion of
+/// its attachment, x_rel + (t·d) u_g.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BaseMotion {
+    /// Complex base displacement amplitude u_g, in m.
+    pub displacement: Complex64,
+    /// Unit direction d of the base translation.
+    pub direction: [f64; 3],
+    /// Report absolute (true) or relative (false) displacements at the response coordinates.
+    pub absolute: bool,
 }
 
 /// Fails on the first non-finite value of a modal model's data, naming the response coordinate
@@ -290,10 +316,49 @@ impl ModalModel {
         damping: &StructureDamping,
         with_residual: bool,
     ) -> Result<Self, SolverError> {
+        Self::build_with_loads(system, solution, coords, &[], damping, with_residual)
+    }
+
+    /// As [`ModalModel::build_damped`], with load vectors over the free DOFs (e.g.
+    /// [`System::base_load`]) as further coordinates after `coords`, numbered from `coords.len()`:
+    /// the receptance from such a coordinate b to a coordinate a is the response at a to the load
+    /// vector b of unit amplitude (its modal coupling is φ_rᵀ b).
+    ///
+    /// # Errors
+    /// [`SolverError::Factorization`] if K − σM cannot be factored for the residual;
+    /// [`SolverError::Request`] for a load vector of the wrong length.
+    pub fn build_with_loads(
+        system: &System,
+        solution: &ModalSolution,
+        coords: &[Coordinate],
+        load_vectors: &[Vec<f64>],
+        damping: &StructureDamping,
+        with_residual: bool,
+    ) -> Result<Self, SolverError> {
         let nm = solution.n_modes();
-        let nc = coords.len();
+        if let Some(v) = load_vectors.iter().find(|v| v.len() != system.n_dofs()) {
+            return Err(SolverError::Request(format!(
+                "a load vector has {} entries, the model {} free DOFs",
+                v.len(),
+                system.n_dofs()
+            )));
+        }
+        let nc = coords.len() + load_vectors.len();
         // Each coordinate touches a few free DOFs (three, or a link's): gather instead of dense products.
-        let taps: Vec<Vec<(usize, f64)>> = coords.iter().map(|co| coordinate_taps(system, co)).collect();
+        let taps: Vec<Vec<(usize, f64)>> = coords
+            .iter()
+            .map(|co| coordinate_taps(system, co))
+            .chain(
+                load_vectors
+                    .iter()
+                    .map(|v| v.iter().enumerate().filter(|(_, w)| **w != 0.0).map(|(i, &w)| (i, w)).collect()),
+            )
+            .collect();
+        let translation: Vec<[f64; 3]> = coords
+            .iter()
+            .map(|co| if co.rotational { [0.0; 3] } else { co.direction })
+            .chain(load_vectors.iter().map(|_| [0.0; 3]))
+            .collect();
         let gather = |col: &[f64], c: usize| -> f64 { taps[c].iter().map(|&(i, w)| w * col[i]).sum() };
         let mut phi = vec![0.0; nc * nm];
         for r in 0..nm {
@@ -364,7 +429,14 @@ impl ModalModel {
             residual,
             residual_mass,
             sigma: solution.shift,
+            translation,
         })
+    }
+
+    /// Motion of coordinate `c` per metre of a rigid base translation along `d`: t_c · d.
+    pub fn base_offset(&self, c: usize, d: [f64; 3]) -> f64 {
+        let t = self.translation[c];
+        t[0] * d[0] + t[1] * d[1] + t[2] * d[2]
     }
 
     /// Number of modes kept.
@@ -456,14 +528,33 @@ impl ModalModel {
         responses: &[usize],
         absorbers: &[AbsorberLink],
     ) -> CoupledResponse {
+        self.coupled_response_base(factors, omega, loads, responses, absorbers, None)
+    }
+
+    /// As [`ModalModel::coupled_response_with`] under a base motion too: `loads` then hold the
+    /// base's inertia load (the [`System::base_load`] coordinate with amplitude ω² u_g), the
+    /// absorbers act on their attachments' absolute motion and the responses are relative or
+    /// absolute as `base` says (see [`BaseMotion`]).
+    pub fn coupled_response_base(
+        &self,
+        factors: &[Complex64],
+        omega: f64,
+        loads: &[Load],
+        responses: &[usize],
+        absorbers: &[AbsorberLink],
+        base: Option<&BaseMotion>,
+    ) -> CoupledResponse {
         let na = absorbers.len();
+        let offset = |c: usize| -> Complex64 {
+            base.map_or(Complex64::new(0.0, 0.0), |b| b.displacement * self.base_offset(c, b.direction))
+        };
         let forced = |c: usize| -> Complex64 {
             loads.iter().map(|l| self.receptance_with(factors, c, l.coord) * l.amplitude).sum()
         };
         let mut g = vec![Complex64::new(0.0, 0.0); na];
         let mut stroke = vec![Complex64::new(0.0, 0.0); na];
         if na > 0 {
-            let fa: Vec<Complex64> = absorbers.iter().map(|a| forced(a.coord)).collect();
+            let fa: Vec<Complex64> = absorbers.iter().map(|a| forced(a.coord) + offset(a.coord)).collect();
             let mut haa = vec![Complex64::new(0.0, 0.0); na * na];
             for j in 0..na {
                 for i in 0..na {
@@ -476,6 +567,9 @@ impl ModalModel {
             .iter()
             .map(|&r| {
                 let mut x = forced(r);
+                if base.is_some_and(|b| b.absolute) {
+                    x += offset(r);
+                }
                 for (i, a) in absorbers.iter().enumerate() {
                     x += self.receptance_with(factors, r, a.coord) * g[i];
                 }
