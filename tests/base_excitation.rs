@@ -31,11 +31,7 @@ fn model(mu: f64, f: f64, c: f64, study: &str) -> String {
 }
 
 fn study(json: &str) -> StudyModel {
-    let s = structure(json);
-    let sys = system(&s);
-    let sol = solve_modes(&sys, ModeRequest::Lowest(1), &EigenParams::default()).unwrap_or_else(|e| panic!("{e}"));
-    let spec = s.study.clone().unwrap_or_else(|| panic!("study"));
-    StudyModel::build(&s, &sys, &sol, &spec, false).unwrap_or_else(|e| panic!("{e}"))
+    study_model(json, 1)
 }
 
 #[test]

@@ -3,7 +3,6 @@
 
 mod common;
 use antinode::placement::StudyModel;
-use antinode::solver::{EigenParams, ModeRequest, solve_modes};
 use common::*;
 
 const TWO_PI: f64 = 2.0 * std::f64::consts::PI;
@@ -31,11 +30,7 @@ fn model(mu: f64, f: f64, absorber_damping: &str, study_extra: &str) -> String {
 }
 
 fn study(json: &str) -> StudyModel {
-    let s = structure(json);
-    let sys = system(&s);
-    let sol = solve_modes(&sys, ModeRequest::Lowest(1), &EigenParams::default()).unwrap_or_else(|e| panic!("{e}"));
-    let spec = s.study.clone().unwrap_or_else(|| panic!("study"));
-    StudyModel::build(&s, &sys, &sol, &spec, false).unwrap_or_else(|e| panic!("{e}"))
+    study_model(json, 1)
 }
 
 /// |x|/x_st of the primary at forcing ratio g = ω/ω_n.
