@@ -656,9 +656,7 @@ impl StudyModel {
     pub(crate) fn table_row(&self, omega: f64, f: &[Complex64], coords: &[usize]) -> GridTable {
         let (na, nr) = (coords.len(), self.responses.len());
         let base = self.base_motion(omega);
-        let offset = |c: usize| -> Complex64 {
-            base.map_or(Complex64::new(0.0, 0.0), |b| b.displacement * self.model.base_offset(c, b.direction))
-        };
+        let offset = |c: usize| self.model.base_displacement(c, base.as_ref());
         let forced = |c: usize| -> Complex64 {
             self.loads.iter().map(|l| self.model.receptance_with(f, c, l.coord) * l.amplitude).sum()
         };

@@ -439,6 +439,11 @@ impl ModalModel {
         t[0] * d[0] + t[1] * d[1] + t[2] * d[2]
     }
 
+    /// Displacement of coordinate `c` carried by the base motion `base` (0 without one), in m.
+    pub fn base_displacement(&self, c: usize, base: Option<&BaseMotion>) -> Complex64 {
+        base.map_or(Complex64::new(0.0, 0.0), |b| b.displacement * self.base_offset(c, b.direction))
+    }
+
     /// Number of modes kept.
     pub fn n_modes(&self) -> usize {
         self.eigenvalues.len()
@@ -545,9 +550,7 @@ impl ModalModel {
         base: Option<&BaseMotion>,
     ) -> CoupledResponse {
         let na = absorbers.len();
-        let offset = |c: usize| -> Complex64 {
-            base.map_or(Complex64::new(0.0, 0.0), |b| b.displacement * self.base_offset(c, b.direction))
-        };
+        let offset = |c: usize| self.base_displacement(c, base);
         let forced = |c: usize| -> Complex64 {
             loads.iter().map(|l| self.receptance_with(factors, c, l.coord) * l.amplitude).sum()
         };
